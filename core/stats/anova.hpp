@@ -1,0 +1,60 @@
+// Analysis of a randomized complete block design: one trait, block + treatment model.
+//
+// Classical sums of squares (Gomez & Gomez 1984, ch. 2), computed in two passes about the grand mean.
+// F tail probabilities and t quantiles from Boost.Math. With missing plots the missing values are
+// estimated by Yates' method (iterated when more than one) and the residual df reduced by one for each
+// (Yates 1933); the result says which cells were estimated.
+#pragma once
+#include <optional>
+#include <string>
+#include <vector>
+
+namespace pw {
+
+struct AnovaRow {
+    std::string source;       // "block", "treatment", "residual", "total"
+    int df = 0;
+    double ss = 0;
+    double ms = 0;            // 0 for total
+    std::optional<double> f;  // not for residual/total
+    std::optional<double> p;
+};
+
+struct TreatmentMean {
+    std::string treatment;
+    double mean = 0;
+    int n = 0;                // observed plots (estimated cells not counted)
+};
+
+struct RcbdObservation {
+    std::string block;
+    std::string treatment;
+    double y = 0;
+};
+
+struct EstimatedCell {
+    std::string block;
+    std::string treatment;
+    double estimate = 0;
+};
+
+struct RcbdResult {
+    std::vector<AnovaRow> anova;          // block, treatment, residual, total
+    double grand_mean = 0;
+    double cv_percent = 0;
+    double sed = 0;                       // standard error of a difference of two treatment means
+    double lsd_5pct = 0;                  // Fisher's LSD, two-sided 5%
+    int blocks = 0;
+    int treatments = 0;
+    std::vector<TreatmentMean> means;     // in order of first appearance
+    std::vector<EstimatedCell> estimated; // missing plots estimated (empty when complete)
+};
+
+// Blocks and treatments are taken from the labels in first-appearance order. Throws InputError for
+// fewer than 2 blocks or treatments, duplicate block/treatment cells, or too many missing cells to analyse.
+RcbdResult analyze_rcbd(const std::vector<RcbdObservation>& data);
+
+double f_upper_tail(double f, double df1, double df2);  // P(F > f)
+double t_quantile(double p, double df);                 // inverse CDF of Student's t
+
+}  // namespace pw
