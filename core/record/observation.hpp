@@ -4,6 +4,7 @@
 #include <cstdint>
 #include <optional>
 #include <string>
+#include <string_view>
 #include <vector>
 
 namespace pw {
@@ -25,8 +26,9 @@ struct ObservationRecord {
     NewObservation obs;
 };
 
-enum class PlotState { Normal, Damaged, Missing, Skipped };
-const char* to_string(PlotState s);
+enum class PlotState { Normal, Damaged, Missing };
+const char* to_string(PlotState s);                        // "normal", "damaged", "missing"
+std::optional<PlotState> plot_state_from_string(std::string_view s);
 
 struct PlotEvent {
     int plot = 0;
