@@ -1,7 +1,7 @@
 // Plot codes: what a tag carries and what a technician types when the tag cannot be scanned.
 //
-//   human code   TRIAL-PLOT-C      e.g. SORG26-103-K   (printed under the symbol)
-//   QR payload   PW1:TRIAL-PLOT-C  e.g. PW1:SORG26-103-K
+//   human code   TRIAL-PLOT-C      e.g. SORG26-103-V   (printed under the symbol)
+//   QR payload   PW1:TRIAL-PLOT-C  e.g. PW1:SORG26-103-V
 // TRIAL is the trial code [A-Z0-9]{2,10}, PLOT the plot id in decimal, C the ISO/IEC 7064 MOD 37,36 check
 // character computed over TRIAL followed by PLOT (the hyphens are not part of the checked data).
 // Every character is in the QR alphanumeric set, so the symbol stays small (docs/tags.md).
