@@ -4,6 +4,7 @@
 // Grid: row counts along y (1 nearest the stake), col along x (1 nearest the stake).
 // Plot ids follow common practice: block * 100 + position (block * 1000 when a block has more than 99 plots),
 // positions numbered in walking order, which runs serpentine so numbers follow the seeder's path.
+// Geometry, numbering and the randomization recipe: docs/design.md.
 #pragma once
 #include <cstdint>
 #include <string>
@@ -32,6 +33,7 @@ struct Layout {
     double field_x_m = 0;     // extent of the trial area along x and y
     double field_y_m = 0;
     std::vector<PlotPlacement> plots;  // in walking order
+    std::vector<std::string> notes;    // plain sentences for the agronomist (gradient off axis, short rows)
 };
 
 // Validates the spec for the RCBD and lays it out. Throws DesignError with a message naming the field.
