@@ -52,9 +52,23 @@ struct RcbdResult {
 
 // Blocks and treatments are taken from the labels in first-appearance order. Throws InputError for
 // fewer than 2 blocks or treatments, duplicate block/treatment cells, or too many missing cells to analyse.
+//
+// Missing plots: a block × treatment cell that is absent, or present with y = NaN (which keeps a label
+// known even when none of its plots was observed). With missing plots:
+//   - `estimated` lists each missing cell with its Yates estimate (iterated; see core/stats/missing_plot.hpp
+//     for the stopping rule); the estimates equal the least-squares predictions of block + treatment.
+//   - the ANOVA rows are the least-squares SS of the observed plots, blocks fitted first: block SS
+//     unadjusted, treatment SS adjusted for blocks (exact; Yates' augmented-data treatment SS minus bias),
+//     residual SS as from the augmented data; residual and total df reduced by one per missing plot.
+//   - `means` and `grand_mean` are taken from the table with the estimates inserted (least-squares means,
+//     as Gomez & Gomez 1984, ch. 7); `n` still counts observed plots only.
+//   - `sed` and `lsd_5pct` are those for two treatments with no estimated plot.
+// Too many missing cells: a whole block or treatment missing, residual df reaching 0, or observed plots
+// that leave two treatments unlinked through blocks. With a perfect fit (residual SS 0), F and p are empty.
 RcbdResult analyze_rcbd(const std::vector<RcbdObservation>& data);
 
-double f_upper_tail(double f, double df1, double df2);  // P(F > f)
-double t_quantile(double p, double df);                 // inverse CDF of Student's t
+// Boost.Math; both throw std::domain_error for arguments outside the distribution (a programming error).
+double f_upper_tail(double f, double df1, double df2);  // P(F > f), df may be fractional
+double t_quantile(double p, double df);                 // inverse CDF of Student's t, 0 < p < 1
 
 }  // namespace pw
