@@ -66,6 +66,9 @@ private:
     std::unique_ptr<Impl> impl_;
 };
 
+// The schema version this program writes and understands (PRAGMA user_version of a current database).
+int store_schema_version();
+
 // RFC 4180 CSV of the current observations: plot,block,treatment,trait,value,unit,recorded_utc,device,observer
 std::string export_observations_csv(const Store& store);
 // RFC 4180 CSV of the layout: plot,block,row,col,treatment,x_m,y_m,walk_order

@@ -1,0 +1,36 @@
+// CSV exports of a trial database (store.hpp): long-format observations and the plot layout.
+// RFC 4180 records through csv_record; one header line naming the columns; CRLF line ends.
+// Coordinates are written with 3 decimals (millimetres), enough for tape or RTK staking (DOMAIN: RTK
+// GNSS is good to 2-3 cm, common practice).
+#include <fmt/format.h>
+
+#include "storage/csv_table.hpp"
+#include "storage/store.hpp"
+
+namespace pw {
+
+std::string export_observations_csv(const Store& store) {
+    std::string out = csv_record(
+        {"plot", "block", "treatment", "trait", "value", "unit", "recorded_utc", "device", "observer"});
+    for (const ObservationRow& row : store.current_observations()) {
+        const NewObservation& o = row.record.obs;
+        out += csv_record({std::to_string(o.plot), std::to_string(row.block), row.treatment, o.trait, o.value,
+                           row.unit, o.recorded_utc, o.device, o.observer});
+    }
+    return out;
+}
+
+std::string export_plots_csv(const Store& store) {
+    const StoredTrial& trial = store.trial();
+    std::string out = csv_record({"plot", "block", "row", "col", "treatment", "x_m", "y_m", "walk_order"});
+    for (const PlotPlacement& p : trial.layout.plots) {
+        // The plot table's foreign key guarantees the index names a treatment of this trial.
+        const std::string& label = trial.spec.treatments.at(static_cast<std::size_t>(p.treatment)).label;
+        out += csv_record({std::to_string(p.id), std::to_string(p.block), std::to_string(p.row),
+                           std::to_string(p.col), label, fmt::format("{:.3f}", p.x_m),
+                           fmt::format("{:.3f}", p.y_m), std::to_string(p.walk_order)});
+    }
+    return out;
+}
+
+}  // namespace pw
