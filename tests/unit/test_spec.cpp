@@ -1,0 +1,260 @@
+// The trial spec reader (core/spec/trial_spec.hpp): a full spec read into its fields, defaults, and every
+// refusal pointing at the file, line and dotted key at fault with what was expected.
+//
+// Expected values are read off the TOML texts by hand, following TOML v1.0.0 (toml.io) for what the text
+// means and the spec format of docs/spec.md for what is allowed; line numbers are counted by hand in the
+// base text below. Keys use 1-based indices into arrays of tables ("traits[2]" is the second [[traits]]).
+#include <catch2/catch.hpp>
+
+#include <fstream>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include "core/error.hpp"
+#include "core/spec/trial_spec.hpp"
+
+namespace {
+
+// A small valid spec; each line's number is its index + 1.
+const std::vector<std::string> kBase = {
+    "[trial]",                            // 1
+    "code = \"SORG26\"",                  // 2
+    "title = \"T\"",                      // 3
+    "site = \"S\"",                       // 4
+    "crop = \"sorghum\"",                 // 5
+    "design = \"rcbd\"",                  // 6
+    "blocks = 4",                         // 7
+    "seed = 7",                           // 8
+    "[field]",                            // 9
+    "plot_length_m = 6.0",                // 10
+    "plot_width_m = 3.0",                 // 11
+    "alley_m = 1.5",                      // 12
+    "[gradient]",                         // 13
+    "bearing_deg = 0",                    // 14
+    "label = \"shade\"",                  // 15
+    "[[treatments]]",                     // 16
+    "label = \"A\"",                      // 17
+    "[[treatments]]",                     // 18
+    "label = \"B\"",                      // 19
+    "check = true",                       // 20
+    "[[traits]]",                         // 21
+    "name = \"grain_kg\"",                // 22
+    "unit = \"kg\"",                      // 23
+    "kind = \"number\"",                  // 24
+    "min = 0",                            // 25
+    "max = 40",                           // 26
+    "[[traits]]",                         // 27
+    "name = \"lodging\"",                 // 28
+    "kind = \"score\"",                   // 29
+    "min = 1",                            // 30
+    "max = 3",                            // 31
+    "labels = [\"none\", \"some\", \"flat\"]",  // 32
+};
+
+// The base text with line `line` (1-based) replaced by `text` (an empty text blanks the line).
+std::string edited(int line, const std::string& text) {
+    std::string out;
+    for (std::size_t i = 0; i < kBase.size(); ++i) out += (static_cast<int>(i) + 1 == line ? text : kBase[i]) + "\n";
+    return out;
+}
+
+std::string without_lines(int first, int last) {
+    std::string out;
+    for (std::size_t i = 0; i < kBase.size(); ++i) {
+        const int n = static_cast<int>(i) + 1;
+        out += (n >= first && n <= last ? std::string() : kBase[i]) + "\n";
+    }
+    return out;
+}
+
+std::string read_text(const std::string& path) {
+    std::ifstream in(path, std::ios::binary);
+    REQUIRE(in);
+    std::ostringstream s;
+    s << in.rdbuf();
+    return s.str();
+}
+
+}  // namespace
+
+TEST_CASE("The demonstration spec is read into every field", "[spec]") {
+    // Values read by hand from layouts/demo.toml.
+    const auto spec = pw::parse_trial_spec(read_text(std::string(PW_SOURCE_DIR) + "/layouts/demo.toml"), "demo.toml");
+    CHECK(spec.code == "SORG26");
+    CHECK(spec.crop == "sorghum");
+    CHECK(spec.design == "rcbd");
+    CHECK(spec.blocks == 4);
+    REQUIRE(spec.seed);
+    CHECK(*spec.seed == 20260614u);
+    CHECK_FALSE(spec.blind);
+    CHECK(spec.field.plot_length_m == 6.0);
+    CHECK(spec.field.plot_width_m == 3.0);
+    CHECK(spec.field.alley_m == 1.5);
+    CHECK(spec.field.plot_gap_m == 0.0);
+    CHECK(spec.field.plots_per_row == 0);
+    CHECK(spec.gradient.bearing_deg == 0.0);
+    REQUIRE(spec.treatments.size() == 6);
+    CHECK(spec.treatments[5].label == "Local check");
+    CHECK(spec.treatments[5].check);
+    CHECK_FALSE(spec.treatments[0].check);
+    REQUIRE(spec.traits.size() == 7);
+    CHECK(spec.traits[0].name == "grain_kg");
+    CHECK(spec.traits[0].unit == "kg");
+    CHECK(spec.traits[0].kind == pw::TraitKind::Number);
+    CHECK(*spec.traits[0].max == 12.0);
+    CHECK(spec.traits[1].decimals == 1);
+    CHECK(spec.traits[3].kind == pw::TraitKind::Count);
+    CHECK(spec.traits[4].kind == pw::TraitKind::Score);
+    REQUIRE(spec.traits[4].score_labels.size() == 9);
+    CHECK(spec.traits[4].score_labels[8] == "flat");
+    CHECK(spec.traits[5].kind == pw::TraitKind::Date);
+    CHECK(spec.traits[6].kind == pw::TraitKind::Text);
+    CHECK(spec.traits[6].max_length == 200);
+}
+
+TEST_CASE("Optional keys take their documented defaults", "[spec]") {
+    // Defaults of docs/spec.md: blind false, plot_gap_m 0, plots_per_row 0, check false, label = name,
+    // decimals 2, unit "" for scores; seed absent stays absent.
+    const auto spec = pw::parse_trial_spec(edited(8, ""), "trial.toml");
+    CHECK_FALSE(spec.seed);
+    CHECK_FALSE(spec.blind);
+    CHECK(spec.field.plot_gap_m == 0.0);
+    CHECK(spec.field.plots_per_row == 0);
+    CHECK_FALSE(spec.treatments[0].check);
+    CHECK(spec.treatments[1].check);
+    CHECK(spec.traits[0].label == "grain_kg");
+    CHECK(spec.traits[0].decimals == 2);
+    CHECK(spec.traits[1].unit.empty());
+    CHECK(spec.traits[1].score_labels == std::vector<std::string>{"none", "some", "flat"});
+}
+
+TEST_CASE("An integer is accepted where a length in metres is expected", "[spec]") {
+    // TOML v1.0.0 distinguishes 6 (integer) from 6.0 (float); a length written either way is the same length.
+    const auto spec = pw::parse_trial_spec(edited(10, "plot_length_m = 6"), "trial.toml");
+    CHECK(spec.field.plot_length_m == 6.0);
+}
+
+TEST_CASE("Each refusal names the file, the line and the dotted key with what was expected", "[spec][errors]") {
+    // Lines counted by hand in kBase; rules from docs/spec.md; TOML meaning from TOML v1.0.0.
+    auto [line, text, where, key, fragment] = GENERATE(table<int, std::string, std::string, std::string, std::string>({
+        {2, "code = \"sorg26\"", "trial.toml:2", "trial.code", "2 to 10 upper-case letters or digits"},
+        {2, "code = \"S\"", "trial.toml:2", "trial.code", "2 to 10 upper-case letters or digits"},
+        {2, "code = \"ABCDEFGHIJK\"", "trial.toml:2", "trial.code", "2 to 10 upper-case letters or digits"},
+        {2, "code = 26", "trial.toml:2", "trial.code", "expected a string"},
+        {2, "", "trial.toml:1", "trial.code", "missing"},
+        {6, "design = \"latin\"", "trial.toml:6", "trial.design", "accepted designs: rcbd"},
+        {7, "blocks = 0", "trial.toml:7", "trial.blocks", "from 1 to 99"},
+        {7, "blocks = 4.5", "trial.toml:7", "trial.blocks", "expected a whole number"},
+        {7, "blocks = \"4\"", "trial.toml:7", "trial.blocks", "expected a whole number"},
+        {8, "seed = -1", "trial.toml:8", "trial.seed", "non-negative"},
+        {8, "blind = 1", "trial.toml:8", "trial.blind", "expected true or false"},
+        {8, "sede = 7", "trial.toml:8", "trial.sede", "did you mean 'seed'"},
+        {10, "plot_lenght_m = 6.0", "trial.toml:10", "field.plot_lenght_m", "did you mean 'plot_length_m'"},
+        {10, "plot_length_m = 0", "trial.toml:10", "field.plot_length_m", "greater than 0"},
+        {10, "plot_length_m = nan", "trial.toml:10", "field.plot_length_m", "finite"},
+        {10, "plot_length_m = inf", "trial.toml:10", "field.plot_length_m", "finite"},
+        {10, "", "trial.toml:9", "field.plot_length_m", "missing"},
+        {11, "plot_width_m = -3", "trial.toml:11", "field.plot_width_m", "greater than 0"},
+        {12, "alley_m = -0.5", "trial.toml:12", "field.alley_m", "0 or more"},
+        {12, "alley_m = 1.5\nplots_per_row = -1", "trial.toml:13", "field.plots_per_row", "from 0"},
+        {14, "bearing_deg = 360", "trial.toml:14", "gradient.bearing_deg", "below 360"},
+        {14, "bearing_deg = -5", "trial.toml:14", "gradient.bearing_deg", "at least 0"},
+        {19, "label = \"a\"", "trial.toml:19", "treatments[2].label", "same label"},
+        {19, "label = \"   \"", "trial.toml:19", "treatments[2].label", "non-empty"},
+        {20, "check = \"yes\"", "trial.toml:20", "treatments[2].check", "expected true or false"},
+        {20, "colour = \"red\"", "trial.toml:20", "treatments[2].colour", "expected one of: label, description, check"},
+        {22, "name = \"Grain\"", "trial.toml:22", "traits[1].name", "lower-case letter"},
+        {22, "name = \"2nd\"", "trial.toml:22", "traits[1].name", "lower-case letter"},
+        {23, "", "trial.toml:21", "traits[1].unit", "missing"},
+        {24, "kind = \"weight\"", "trial.toml:24", "traits[1].kind", "number, count, score, date, text"},
+        {25, "min = 50", "trial.toml:25", "traits[1].min", "greater than max 40"},
+        {26, "decimals = 7", "trial.toml:26", "traits[1].decimals", "from 0 to 6"},
+        {26, "decimals = -1", "trial.toml:26", "traits[1].decimals", "from 0 to 6"},
+        {26, "labels = [\"a\"]", "trial.toml:26", "traits[1].labels", "applies only to score traits"},
+        {26, "max_length = 5", "trial.toml:26", "traits[1].max_length", "applies only to text traits"},
+        {28, "name = \"grain_kg\"", "trial.toml:28", "traits[2].name", "duplicate trait name 'grain_kg'"},
+        {29, "kind = \"date\"", "trial.toml:30", "traits[2].min", "applies only to number, count and score traits"},
+        {30, "min = 1.5", "trial.toml:30", "traits[2].min", "whole number"},
+        {31, "max = 4", "trial.toml:32", "traits[2].labels", "(4 labels), got 3"},
+        {31, "", "trial.toml:27", "traits[2].max", "missing"},
+        {32, "labels = [\"none\", \"some\", \"NONE\"]", "trial.toml:32", "traits[2].labels[3]", "repeats labels[1]"},
+        {32, "labels = [\"none\", \"2\", \"flat\"]", "trial.toml:32", "traits[2].labels[2]", "confused with a score"},
+        {32, "labels = \"none\"", "trial.toml:32", "traits[2].labels", "expected an array"},
+        {9, "[feild]", "trial.toml:9", "feild", "did you mean 'field'"},
+        {1, "[trail]", "trial.toml:1", "trail", "did you mean 'trial'"},
+    }));
+    CAPTURE(line, text);
+    try {
+        (void)pw::parse_trial_spec(edited(line, text), "trial.toml");
+        FAIL("accepted");
+    } catch (const pw::SpecError& e) {
+        CAPTURE(e.what());
+        CHECK(e.where == where);
+        CHECK(e.key == key);
+        CHECK_THAT(e.what(), Catch::Contains(fragment));
+        CHECK_THAT(e.what(), Catch::StartsWith(where + ": " + key + ": "));
+    }
+}
+
+TEST_CASE("A duplicate treatment label names the line of the first one", "[spec][errors]") {
+    // Labels compared ignoring case; "A" is on line 17 of kBase.
+    CHECK_THROWS_WITH(pw::parse_trial_spec(edited(19, "label = \"a\""), "trial.toml"),
+                      Catch::Contains("treatments[1] (line 17)"));
+}
+
+TEST_CASE("A TOML syntax error is reported with its line and the TOML reader's description", "[spec][errors]") {
+    // TOML v1.0.0: a bare word is not a value; a key may not be defined twice in one table.
+    auto [line, text] = GENERATE(table<int, std::string>({
+        {5, "crop = sorghum"},
+        {3, "code = \"X\""},
+        {17, "label = \"A"},
+    }));
+    CAPTURE(line, text);
+    try {
+        (void)pw::parse_trial_spec(edited(line, text), "trial.toml");
+        FAIL("accepted");
+    } catch (const pw::SpecError& e) {
+        CAPTURE(e.what());
+        CHECK(e.where == "trial.toml:" + std::to_string(line));
+        CHECK(e.key.empty());
+        CHECK_THAT(e.what(), Catch::Contains("not valid TOML"));
+    }
+}
+
+TEST_CASE("A missing table or an empty list of treatments is refused by name", "[spec][errors]") {
+    // docs/spec.md: [trial], [field], [gradient], one or more [[treatments]] and [[traits]] are required.
+    try {
+        (void)pw::parse_trial_spec(without_lines(13, 15), "trial.toml");
+        FAIL("accepted");
+    } catch (const pw::SpecError& e) {
+        CHECK(e.where == "trial.toml");
+        CHECK(e.key == "gradient");
+        CHECK_THAT(e.what(), Catch::Contains("missing table [gradient]"));
+    }
+    try {
+        (void)pw::parse_trial_spec(without_lines(16, 20), "trial.toml");
+        FAIL("accepted");
+    } catch (const pw::SpecError& e) {
+        CHECK(e.key == "treatments");
+        CHECK_THAT(e.what(), Catch::Contains("[[treatments]]"));
+    }
+    try {
+        (void)pw::parse_trial_spec("treatments = []\n" + without_lines(16, 20), "trial.toml");
+        FAIL("accepted");
+    } catch (const pw::SpecError& e) {
+        CHECK(e.key == "treatments");
+        CHECK_THAT(e.what(), Catch::Contains("at least one"));
+    }
+}
+
+TEST_CASE("Trait kinds are named as in the spec format", "[spec]") {
+    // docs/spec.md: kind = number | count | score | date | text.
+    CHECK(pw::trait_kind_from_string("number") == pw::TraitKind::Number);
+    CHECK(pw::trait_kind_from_string("count") == pw::TraitKind::Count);
+    CHECK(pw::trait_kind_from_string("score") == pw::TraitKind::Score);
+    CHECK(pw::trait_kind_from_string("date") == pw::TraitKind::Date);
+    CHECK(pw::trait_kind_from_string("text") == pw::TraitKind::Text);
+    CHECK_FALSE(pw::trait_kind_from_string("Number"));
+    CHECK(std::string(pw::to_string(pw::TraitKind::Score)) == "score");
+}
