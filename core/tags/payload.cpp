@@ -41,11 +41,20 @@ bool valid_trial_code(std::string_view s) {
     return true;
 }
 
-// Quotes what the person typed, cut short if a scanner sent something long (a URL, a whole label).
+// Quotes what the person typed, cut short if a scanner sent something long (a URL, a whole label); control
+// characters are shown as \xNN so that the message stays one printable line.
 std::string quoted(std::string_view text) {
     constexpr std::size_t kMaxEcho = 40;
-    if (text.size() <= kMaxEcho) return fmt::format("\"{}\"", text);
-    return fmt::format("\"{}...\"", text.substr(0, kMaxEcho));
+    std::string out = "\"";
+    for (char ch : text.substr(0, kMaxEcho)) {
+        const auto byte = static_cast<unsigned char>(ch);
+        if (byte < 0x20 || byte == 0x7F)
+            out += fmt::format("\\x{:02X}", byte);
+        else
+            out += ch;
+    }
+    out += text.size() > kMaxEcho ? "...\"" : "\"";
+    return out;
 }
 
 [[noreturn]] void refuse(std::string_view text, std::string_view reason) {
