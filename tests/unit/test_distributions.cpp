@@ -61,7 +61,8 @@ TEST_CASE("The F upper tail at R's 5% and 1% critical values is 5% and 1%", "[st
 
 TEST_CASE("The F upper tail matches R's pf with lower.tail = FALSE, small tails included", "[stats][distributions]") {
     // Source: R 4.2.2 pf(f, df1, df2, lower.tail = FALSE) (distributions_extra.json), p from 0.86 down to 7e-11.
-    for (const json& e : read_json("distributions_extra.json").at("f_upper_tail")) {
+    const json ref = read_json("distributions_extra.json");
+    for (const json& e : ref.at("f_upper_tail")) {
         const double f = e.at("f").get<double>();
         const double df1 = e.at("df1").get<double>();
         const double df2 = e.at("df2").get<double>();
@@ -73,12 +74,14 @@ TEST_CASE("The F upper tail matches R's pf with lower.tail = FALSE, small tails 
 TEST_CASE("Student's t quantiles match R's qt", "[stats][distributions]") {
     // Source: R 4.2.2 qt(0.975, df) for df 1..30 (distributions_r422.json) and qt(p, df) at other
     // probabilities, fractional df included (distributions_extra.json).
-    for (const json& e : read_json("distributions_r422.json").at("t_critical_two_sided_5pct")) {
+    const json tables = read_json("distributions_r422.json");
+    const json extra = read_json("distributions_extra.json");
+    for (const json& e : tables.at("t_critical_two_sided_5pct")) {
         const int df = e.at("df").get<int>();
         CAPTURE(df);
         require_rel(pw::t_quantile(0.975, df), e.at("r_qt_0975").get<double>(), kQuantileTol);
     }
-    for (const json& e : read_json("distributions_extra.json").at("t_quantile")) {
+    for (const json& e : extra.at("t_quantile")) {
         const double p = e.at("p").get<double>();
         const double df = e.at("df").get<double>();
         CAPTURE(p, df);
