@@ -9,7 +9,7 @@
 // blocks first, so the treatment row is the exact block-adjusted treatment SS (Yates' augmented-data
 // treatment SS is biased upward; this is what his bias correction recovers). Treatment means are
 // taken from the filled table, i.e. they are least-squares means (Gomez & Gomez 1984, ch. 7,
-// compute means after inserting the estimates).
+// compute means after inserting the estimates; chapter numbers here are from memory).
 //
 // Invariants: blocks and treatments are numbered in order of first appearance; the table has exactly
 // one value or one missing mark per cell; residual df = (r−1)(t−1) − missing ≥ 1.
