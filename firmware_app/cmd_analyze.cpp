@@ -140,6 +140,7 @@ std::vector<RcbdObservation> from_store(const Store& store, const std::string& t
         if (it == latest.end()) {
             s.missing_why[{block, trt}] =
                 fmt::format("plot {}{}", p->id, flag == flags.end() ? ": no value recorded" : ": " + flag->second);
+            data.push_back({block, trt, std::nan("")});  // a known cell without a value (anova.hpp)
             continue;
         }
         if (flag != flags.end()) s.notes.push_back(fmt::format("plot {} {}; its value is used", p->id, flag->second));
@@ -162,6 +163,7 @@ std::vector<RcbdObservation> from_csv(const Options& o, Subject& s) {
         const std::string& cell = row[cr];
         if (cell.empty() || cell == "NA") {  // an empty cell (or R's NA) is a missing plot
             s.missing_why[{row[cb], row[ct]}] = fmt::format("{} record {}: empty", o.csv, i + 1);
+            data.push_back({row[cb], row[ct], std::nan("")});
             continue;
         }
         double y = 0;

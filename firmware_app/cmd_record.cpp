@@ -35,6 +35,7 @@ int run_line_recorder(Store& store, std::istream& in, std::ostream& out, std::os
     while (!session.finished()) {
         if (setup.prompts) out << session.prompt() << "> " << std::flush;
         if (!std::getline(in, line)) break;
+        if (setup.echo) out << "> " << line << "\n";
         for (const Message& m : session.handle(line)) {
             switch (m.severity) {
                 case Severity::Info: out << m.text << "\n"; break;

@@ -120,7 +120,7 @@ std::string RecordingSession::prompt() const {
 
 std::string RecordingSession::next_hint() const {
     const PlotPlacement* n = next_in_walk();
-    if (!n) return fmt::format("all {} plots have records", plots_total());
+    if (!n) return "nothing left to record";
     return fmt::format("next: plot {} (block {})", n->id, n->block);
 }
 
