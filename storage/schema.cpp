@@ -34,6 +34,7 @@ CREATE TABLE trial (
     algorithm     TEXT NOT NULL CHECK (algorithm <> ''),
     field_x_m     REAL NOT NULL CHECK (field_x_m >= 0),
     field_y_m     REAL NOT NULL CHECK (field_y_m >= 0),
+    layout_notes  TEXT NOT NULL CHECK (json_valid(layout_notes) AND json_type(layout_notes) = 'array'),
     created_utc   TEXT NOT NULL )sql" PW_UTC_CHECK("created_utc") R"sql(,
     app_version   TEXT NOT NULL
 ) STRICT;

@@ -128,10 +128,12 @@ void insert_definition(sqlite3* db, const std::string& spec_toml, const std::str
                        const TrialSpec& spec, const Layout& layout, const std::string& now_utc) {
     Statement trial(db,
                     "INSERT INTO trial (id, code, title, spec_toml, spec_source, seed, algorithm, field_x_m, "
-                    "field_y_m, created_utc, app_version) VALUES (1, ?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10)");
+                    "field_y_m, layout_notes, created_utc, app_version) "
+                    "VALUES (1, ?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11)");
     trial.bind(1, spec.code).bind(2, spec.title).bind(3, spec_toml).bind(4, spec_source)
         .bind(5, std::to_string(layout.seed)).bind(6, layout.algorithm)
-        .bind(7, layout.field_x_m).bind(8, layout.field_y_m).bind(9, now_utc).bind(10, PW_APP_VERSION);
+        .bind(7, layout.field_x_m).bind(8, layout.field_y_m).bind(9, nlohmann::json(layout.notes).dump())
+        .bind(10, now_utc).bind(11, PW_APP_VERSION);
     trial.run();
 
     for (std::size_t i = 0; i < spec.treatments.size(); ++i) {
@@ -168,8 +170,8 @@ void insert_definition(sqlite3* db, const std::string& spec_toml, const std::str
 StoredTrial load_trial(sqlite3* db, const std::string& path) {
     StoredTrial t;
     Statement st(db,
-                 "SELECT spec_toml, spec_source, created_utc, seed, algorithm, field_x_m, field_y_m "
-                 "FROM trial WHERE id = 1");
+                 "SELECT spec_toml, spec_source, created_utc, seed, algorithm, field_x_m, field_y_m, "
+                 "layout_notes FROM trial WHERE id = 1");
     if (!st.step()) throw StoreError(path + ": the trial table is empty: not a complete plotwright database");
     t.spec_toml = st.text(0);
     t.spec_source = st.text(1);
@@ -178,6 +180,11 @@ StoredTrial load_trial(sqlite3* db, const std::string& path) {
     t.layout.algorithm = st.text(4);
     t.layout.field_x_m = st.real(5);
     t.layout.field_y_m = st.real(6);
+    try {
+        t.layout.notes = nlohmann::json::parse(st.text(7)).get<std::vector<std::string>>();
+    } catch (const nlohmann::json::exception& e) {
+        throw StoreError(path + ": trial.layout_notes: expected a JSON array of strings (" + e.what() + ")");
+    }
     t.spec = parse_stored_spec(t.spec_toml, t.spec_source, path);
 
     TrialSpec tables;
