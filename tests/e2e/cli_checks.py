@@ -96,6 +96,18 @@ def case_reproducible(pw, work):
     print(f"ok: {len(rows)} plots, byte-identical for one seed, different for another, "
           f"each of {len(treatments)} treatments once in each of {len(blocks)} blocks")
 
+    # A spec without a seed: a seed is drawn, stored and reported, and re-deriving with it gives the layout.
+    unseeded = work / "unseeded.toml"
+    unseeded.write_text("\n".join(l for l in DEMO_SPEC.read_text().splitlines()
+                                  if not l.strip().startswith("seed")) + "\n")
+    summary = json.loads(run([pw, "design", unseeded, "--db", work / "u1.db", "--json"]).stdout)
+    drawn = summary["seed"]
+    first = run([pw, "plots", "--db", work / "u1.db"]).stdout
+    run([pw, "design", unseeded, "--db", work / "u2.db", "--seed", drawn])
+    if run([pw, "plots", "--db", work / "u2.db"]).stdout != first:
+        fail(f"re-deriving with the drawn seed {drawn} gave another layout")
+    print(f"ok: a spec without a seed got seed {drawn}, and that seed re-derives its layout")
+
 
 def first_plot_and_traits(pw, db):
     rows = list(csv.DictReader(io.StringIO(run([pw, "plots", "--db", db, "--format", "csv"]).stdout)))
