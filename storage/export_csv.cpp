@@ -1,9 +1,11 @@
-// CSV exports of a trial database (store.hpp): long-format observations and the plot layout.
+// CSV exports of a trial database (store.hpp): long-format observations and the plot layout (with the
+// text each plot's tag carries, so a list can be checked against scanned tags).
 // RFC 4180 records through csv_record; one header line naming the columns; CRLF line ends.
 // Coordinates are written with 3 decimals (millimetres), enough for tape or RTK staking (DOMAIN: RTK
 // GNSS is good to 2-3 cm, common practice).
 #include <fmt/format.h>
 
+#include "core/tags/payload.hpp"
 #include "storage/csv_table.hpp"
 #include "storage/store.hpp"
 
@@ -22,13 +24,14 @@ std::string export_observations_csv(const Store& store) {
 
 std::string export_plots_csv(const Store& store) {
     const StoredTrial& trial = store.trial();
-    std::string out = csv_record({"plot", "block", "row", "col", "treatment", "x_m", "y_m", "walk_order"});
+    std::string out = csv_record({"plot", "block", "row", "col", "treatment", "x_m", "y_m", "walk_order", "tag"});
     for (const PlotPlacement& p : trial.layout.plots) {
         // The plot table's foreign key guarantees the index names a treatment of this trial.
         const std::string& label = trial.spec.treatments.at(static_cast<std::size_t>(p.treatment)).label;
         out += csv_record({std::to_string(p.id), std::to_string(p.block), std::to_string(p.row),
                            std::to_string(p.col), label, fmt::format("{:.3f}", p.x_m),
-                           fmt::format("{:.3f}", p.y_m), std::to_string(p.walk_order)});
+                           fmt::format("{:.3f}", p.y_m), std::to_string(p.walk_order),
+                           qr_payload(trial.spec.code, p.id)});
     }
     return out;
 }

@@ -566,11 +566,15 @@ TEST_CASE("The plot export lists every plot in walking order with its treatment 
     const CsvTable t = parse_csv(export_plots_csv(s), "plots.csv");
     // Column names and order as declared in storage/store.hpp.
     CHECK(t.header == std::vector<std::string>{"plot", "block", "row", "col", "treatment", "x_m", "y_m",
-                                               "walk_order"});
+                                               "walk_order", "tag"});
     REQUIRE(t.rows.size() == 6);
     // hand_layout(): plot 101 centre (1.5, 2.5) m, treatment 1 = N60; plot 201 is walked fourth, at col 3.
-    CHECK(t.rows[0] == std::vector<std::string>{"101", "1", "1", "1", "N60", "1.500", "2.500", "1"});
-    CHECK(t.rows[3] == std::vector<std::string>{"201", "2", "2", "3", "N120, split", "8.500", "8.500", "4"});
+    // Tag check characters from python-stdnum 1.18, iso7064.mod_37_36.calc_check_digit("STOR26101") = "H"
+    // and ("STOR26201") = "9".
+    CHECK(t.rows[0] ==
+          std::vector<std::string>{"101", "1", "1", "1", "N60", "1.500", "2.500", "1", "PW1:STOR26-101-H"});
+    CHECK(t.rows[3] == std::vector<std::string>{"201", "2", "2", "3", "N120, split", "8.500", "8.500", "4",
+                                                "PW1:STOR26-201-9"});
 }
 
 TEST_CASE("The observation export has one row per current observation", "[store][csv]") {
