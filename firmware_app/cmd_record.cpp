@@ -12,22 +12,19 @@
 #include "storage/store.hpp"
 
 namespace pw::app {
-namespace {
-
-std::set<int> plots_with_records(const Store& store) {
-    std::set<int> done;
+RecordingSession open_session(Store& store, const RecorderSetup& setup) {
+    const StoredTrial& trial = store.trial();
+    std::set<int> done;  // plots that already hold a value or a flag
     for (const auto& row : store.current_observations()) done.insert(row.record.obs.plot);
     for (const auto& ev : store.plot_events()) done.insert(ev.plot);
-    return done;
+    return RecordingSession(trial.spec, trial.layout, store, {setup.device, setup.observer}, setup.clock,
+                            std::move(done));
 }
-
-}  // namespace
 
 int run_line_recorder(Store& store, std::istream& in, std::ostream& out, std::ostream& err,
                       const RecorderSetup& setup) {
     const StoredTrial& trial = store.trial();
-    RecordingSession session(trial.spec, trial.layout, store, {setup.device, setup.observer}, setup.clock,
-                             plots_with_records(store));
+    RecordingSession session = open_session(store, setup);
     out << fmt::format("trial {}: {} of {} plots have records{}\n", trial.spec.code, session.plots_done(),
                        session.plots_total(), trial.spec.blind ? " (blind: treatments hidden)" : "");
     int refused = 0;
@@ -46,6 +43,7 @@ int run_line_recorder(Store& store, std::istream& in, std::ostream& out, std::os
                     break;
             }
         }
+        out.flush();  // a confirmation is shown only after its value is committed, and shown at once
     }
     out << std::flush;
     return refused;
@@ -56,6 +54,7 @@ void add_record_command(CLI::App& app) {
         std::string db;
         std::string device = "handheld";
         std::string observer;
+        bool lines = false;
     };
     auto o = std::make_shared<Options>();
     auto* cmd = app.add_subcommand("record", "Record traits plot by plot: scan a tag or type its code, then "
@@ -63,10 +62,15 @@ void add_record_command(CLI::App& app) {
     cmd->add_option("--db", o->db, "Trial database")->required()->check(CLI::ExistingFile);
     cmd->add_option("--device", o->device, "Name of this device, stored with every value");
     cmd->add_option("--observer", o->observer, "Who records, stored with every value")->required();
+    cmd->add_flag("--lines", o->lines, "Line mode even on a terminal (the full screen is the default there)");
     cmd->callback([o] {
         Store store = Store::open(o->db);
         bool tty = isatty(STDIN_FILENO) != 0;
         RecorderSetup setup{o->device, o->observer, now_utc_iso, tty};
+        if (tty && isatty(STDOUT_FILENO) && !o->lines) {
+            run_screen_recorder(store, setup);
+            return;
+        }
         int refused = run_line_recorder(store, std::cin, std::cout, std::cerr, setup);
         // From a pipe, a refused line fails the run so that scripts notice; nothing refused was written.
         if (!tty && refused > 0) {
