@@ -1,21 +1,21 @@
 // Alpha designs: construction from random alpha arrays, improvement by interchange, randomization.
 // Recipe and sources in docs/alpha.md; the output contract in alpha.hpp.
 //
-// 1. Construction (Patterson & Williams 1976, section 3). With s blocks per replicate and k' = ceil(v/s)
+// 1. Construction (Patterson & Williams 1976). With s blocks per replicate and k' = ceil(v/s)
 //    plots in the largest block, label the design's treatments t = i*s + j (i = 0..k'-1, j = 0..s-1). An
 //    alpha array a (k' rows x r columns, entries mod s, first row and first column 0) gives replicate c's
 //    block b (b = 0..s-1) the treatments  i*s + (b + a[i][c]) mod s,  i = 0..k'-1: column c developed
 //    cyclically. Labels t >= v are deleted, one from each of s*k' - v blocks, which leaves the block sizes of
 //    alpha.hpp. Every replicate holds every label once by construction. The array's free entries are drawn
 //    from the Rng; several arrays are developed and the most efficient connected one kept.
-// 2. Improvement (an interchange algorithm, John & Williams 1995, ch. 6): swap two treatments between two
+// 2. Improvement (an interchange algorithm as in John & Williams 1995, from memory): swap two treatments between two
 //    blocks of one replicate, and keep the swap when the efficiency factor rises. E is exact, not a surrogate:
 //    with Omega = (C + J/v)^-1, trace C^+ = trace Omega - 1 and E = (v-1) / (r trace C^+), and a swap changes
 //    C by the rank-two term -(w d' + d w'), so the change of trace Omega follows from the Woodbury identity in
 //    O(v) per candidate (derivation in docs/alpha.md). Omega is refreshed exactly before every pass. Passes
 //    visit the block pairs of each replicate in an Rng-shuffled order until a pass keeps nothing or the
 //    work budget (counted in candidates, not time) is spent.
-// 3. Randomization (Patterson & Williams 1976, section 5): replicates in random order, blocks at random
+// 3. Randomization (Patterson & Williams 1976; common practice): replicates in random order, blocks at random
 //    within each replicate (larger blocks first), plots at random within each block, entries assigned to the
 //    design's labels by a random permutation.
 //

@@ -56,7 +56,7 @@ double alpha_efficiency_factor(const DesignAssignment& design);
 //   U0 = (v - s) / (v - 1)                                        average of the factors (John & Williams 1995, 2.8)
 //   U1 = (v-1)(r-1) / ((v-1)(r-1) + r(s-1)), when v-1 >= r(s-1)   Patterson & Williams 1976
 //   U2 (r = 2 only) = (v-1) / ((v-2s+1) + 4(s-1) / Ec)            through the contraction
-//        Ec = 1 - max(0, s/k - 1) / (s - 1)                       (Williams, Patterson & John 1976)
+//        Ec = 1 - max(0, s/k' - 1) / (s - 1), k' = ceil(v/s)      (Williams, Patterson & John 1976)
 // Derivations in docs/alpha.md. Square lattices (v = k^2, r = 2, 3) attain it.
 double alpha_upper_bound(int entries, int block_size, int replicates);
 
