@@ -137,7 +137,7 @@ TEST_CASE("A stored digest that is not the stored plots' is reported as such", "
     CHECK_THAT(r.message, Catch::Contains("stored digest does not match") && Catch::Contains(digest));
 }
 
-TEST_CASE("A layout made by another algorithm version is not re-derived; both versions are named",
+TEST_CASE("A layout made by another algorithm version is not re-derived, and both versions are named",
           "[certificate][verify]") {
     const pw::TrialSpec s = spec();
     pw::Layout l = pw::design_trial(s, 77);
