@@ -10,6 +10,8 @@
 #include <string>
 #include <vector>
 
+#include "core/record/session.hpp"
+
 namespace CLI {
 class App;
 }
@@ -22,7 +24,6 @@ void add_record_command(CLI::App& app);
 void add_export_command(CLI::App& app);
 void add_analyze_command(CLI::App& app);
 void add_demo_command(CLI::App& app);
-void add_plan_command(CLI::App& app);     // plan: replicates needed, power (core/stats/power.hpp)
 
 }  // namespace pw::app
 namespace pw {
@@ -61,6 +62,11 @@ std::string analyze_trait(const pw::Store& store, const std::string& trait, bool
 struct ExitStatus {
     int code = 1;
 };
+
+// A recording session over the store, knowing which plots already hold values or flags.
+pw::RecordingSession open_session(pw::Store& store, const RecorderSetup& setup);
+// The full-screen recorder on the terminal (ncurses). Returns the number of refused inputs.
+int run_screen_recorder(pw::Store& store, const RecorderSetup& setup);
 
 // File access, wrapped so every failure names the file.
 std::string read_text_file(const std::string& path);

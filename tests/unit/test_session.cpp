@@ -44,7 +44,9 @@ TrialSpec small_spec(bool blind) {
     s.title = "session test";
     s.blocks = 2;
     s.blind = blind;
-    s.field = {5.0, 2.0, 1.0, 0.0, 0};
+    s.field.plot_length_m = 5.0;
+    s.field.plot_width_m = 2.0;
+    s.field.alley_m = 1.0;
     s.gradient = {0.0, "test gradient"};
     s.treatments = {{"Alpha", "", true}, {"Bravo", "", false}, {"Charlie", "", false}};
     TraitSpec kg;
