@@ -71,7 +71,8 @@ std::vector<std::string> start_card(const RecordingSession& s, const TrialSpec& 
 }  // namespace
 
 void ViewState::add(const std::vector<Message>& ms, std::size_t keep) {
-    for (const auto& m : ms) recent.push_back(m);
+    for (const auto& m : ms)
+        if (!m.card) recent.push_back(m);  // the card is drawn from the session's state
     while (recent.size() > keep) recent.pop_front();
 }
 

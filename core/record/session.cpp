@@ -167,7 +167,7 @@ std::vector<Message> RecordingSession::open(int plot_id, bool /*scanned*/) {
     if (done_.count(p.id))
         out.push_back(warn(fmt::format("plot {} already has records; a new value replaces the shown one, "
                                        "which stays in the history", p.id)));
-    for (auto& l : plot_card()) out.push_back(info(l));
+    for (auto& l : plot_card()) out.push_back({Severity::Info, l, true});
     trait_.reset();
     if (spec_.traits.empty()) return out;
     trait_ = 0;

@@ -36,6 +36,7 @@ enum class Severity { Info, Warning, Refused };
 struct Message {
     Severity severity = Severity::Info;
     std::string text;
+    bool card = false;   // a line of the plot card: a full-screen view draws the card itself
 };
 
 struct RecorderIdentity {
