@@ -24,6 +24,7 @@ void add_record_command(CLI::App& app);
 void add_export_command(CLI::App& app);
 void add_analyze_command(CLI::App& app);
 void add_demo_command(CLI::App& app);
+void add_plan_command(CLI::App& app);     // plan: replicates needed, power (core/stats/power.hpp)
 
 }  // namespace pw::app
 namespace pw {
