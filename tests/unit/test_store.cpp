@@ -383,7 +383,7 @@ TEST_CASE("Observations and plot events cannot be updated or deleted, even with 
 
     RawDb raw(path);
     // SQLite: RAISE(ABORT, msg) in a BEFORE trigger fails the statement with SQLITE_CONSTRAINT and msg.
-    for (const std::string sql : {"UPDATE observation SET value = '99.00' WHERE id = " + std::to_string(id),
+    for (const std::string& sql : {"UPDATE observation SET value = '99.00' WHERE id = " + std::to_string(id),
                                   std::string("DELETE FROM observation"),
                                   std::string("UPDATE plot_event SET state = 'normal'"),
                                   std::string("DELETE FROM plot_event"),
