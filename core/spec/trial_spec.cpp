@@ -33,6 +33,43 @@ const char* to_string(TraitKind kind) {
     return "number";
 }
 
+const char* to_string(BorderKind kind) {
+    switch (kind) {
+        case BorderKind::None: return "none";
+        case BorderKind::Around: return "around";
+        case BorderKind::GradientEdges: return "gradient_edges";
+    }
+    return "none";
+}
+
+const std::vector<std::string>& design_names() {
+    static const std::vector<std::string> names = {"crd",    "rcbd",      "latin", "split",
+                                                   "strip", "paired", "augmented", "alpha"};
+    return names;
+}
+
+std::vector<TreatmentSpec> cross_factors(const std::vector<FactorSpec>& factors, const std::string& extra_control) {
+    std::vector<TreatmentSpec> out;
+    if (!factors.empty()) {
+        // Odometer over the levels, last factor fastest (so the first factor is the slowest).
+        std::vector<std::size_t> at(factors.size(), 0);
+        for (;;) {
+            TreatmentSpec t;
+            for (std::size_t f = 0; f < factors.size(); ++f) {
+                if (f) t.label += kFactorLabelSeparator;
+                t.label += factors[f].levels.at(at[f]);
+                t.description += (f ? ", " : "") + factors[f].name + " " + factors[f].levels.at(at[f]);
+            }
+            out.push_back(std::move(t));
+            std::size_t f = factors.size();
+            while (f > 0 && ++at[f - 1] == factors[f - 1].levels.size()) at[--f] = 0;
+            if (f == 0) break;
+        }
+    }
+    if (!extra_control.empty()) out.push_back({extra_control, "extra control", true});
+    return out;
+}
+
 std::optional<TraitKind> trait_kind_from_string(const std::string& name) {
     for (TraitKind k : {TraitKind::Number, TraitKind::Count, TraitKind::Score, TraitKind::Date, TraitKind::Text})
         if (name == to_string(k)) return k;
@@ -41,9 +78,11 @@ std::optional<TraitKind> trait_kind_from_string(const std::string& name) {
 
 namespace {
 
-constexpr const char* kDesignNames = "rcbd";  // accepted values of trial.design, comma-separated
 constexpr int kMaxBlocks = 99;                 // plot ids are block * 100 (or 1000) + position
+constexpr int kMaxReplicates = 99;
 constexpr int kMaxTreatments = 999;
+constexpr int kMaxFactors = 3;
+constexpr double kRightAngleToleranceDeg = 10.0;  // a Latin square's two gradients: 90° +/- this
 constexpr int kMaxDecimals = 6;
 constexpr int kMaxTextLength = 2000;
 
@@ -84,6 +123,17 @@ std::string join(const std::vector<std::string_view>& items) {
 }
 
 std::string show(double v) { return fmt::format("{}", v); }
+
+std::string design_list() {
+    std::string out;
+    for (const auto& n : design_names()) out += (out.empty() ? "" : ", ") + n;
+    return out;
+}
+
+// Angle between two compass bearings, 0..180 degrees.
+double bearing_difference(double a_deg, double b_deg) {
+    return std::fabs(std::fmod(a_deg - b_deg + 540.0, 360.0) - 180.0);
+}
 
 const char* type_name(const toml::node& n) {
     switch (n.type()) {
@@ -248,9 +298,28 @@ bool all_digits(std::string_view s) {
     return std::all_of(s.begin() + static_cast<std::ptrdiff_t>(i), s.end(), [](char c) { return c >= '0' && c <= '9'; });
 }
 
+// Which [trial] keys each design uses: a key that belongs to another design is refused, so a setting that
+// would be ignored is never silently accepted.
+struct DesignKeys {
+    bool blocks = false, replicates = false, block_size = false, factors_allowed = false, factors_required = false,
+        extra_control = false, second_gradient = false;
+};
+
+DesignKeys keys_of(const std::string& design) {
+    DesignKeys k;
+    if (design == "crd") k.replicates = k.factors_allowed = k.extra_control = true;
+    if (design == "rcbd") k.blocks = k.factors_allowed = k.extra_control = true;
+    if (design == "latin") k.factors_allowed = k.extra_control = k.second_gradient = true;
+    if (design == "split" || design == "strip") k.blocks = k.factors_allowed = k.factors_required = true;
+    if (design == "paired" || design == "augmented") k.blocks = true;
+    if (design == "alpha") k.replicates = k.block_size = true;
+    return k;
+}
+
 void read_trial(const Reader& r, const toml::table& root, TrialSpec& spec) {
     const Scope s = r.req_table(root, "trial");
-    r.only_keys(s, {"code", "title", "site", "crop", "design", "blocks", "seed", "blind"});
+    r.only_keys(s, {"code", "title", "site", "crop", "design", "blocks", "replicates", "block_size", "extra_control",
+                    "seed", "blind"});
 
     spec.code = r.req_string(s, "code");
     if (!is_trial_code(spec.code))
@@ -262,22 +331,33 @@ void read_trial(const Reader& r, const toml::table& root, TrialSpec& spec) {
 
     spec.design = r.req_string(s, "design");
     const std::string name = lower(spec.design);
-    bool known = false;
-    for (std::string_view rest = kDesignNames; !rest.empty();) {
-        const auto comma = rest.find(',');
-        if (rest.substr(0, comma) == name) known = true;
-        rest = comma == std::string_view::npos ? std::string_view{} : rest.substr(comma + 1);
-    }
-    if (!known)
+    const auto& names = design_names();
+    if (std::find(names.begin(), names.end(), name) == names.end())
         r.fail(*r.find(s, "design"), s.key("design"),
-               fmt::format("unknown design '{}'; accepted designs: {}", spec.design, kDesignNames));
+               fmt::format("unknown design '{}'; accepted designs: {}", spec.design, design_list()));
     spec.design = name;
+    const DesignKeys k = keys_of(name);
 
-    const std::int64_t blocks = r.req_integer(s, "blocks");
-    if (blocks < 1 || blocks > kMaxBlocks)
-        r.fail(*r.find(s, "blocks"), s.key("blocks"),
-               fmt::format("expected a whole number of blocks from 1 to {}, got {}", kMaxBlocks, blocks));
-    spec.blocks = static_cast<int>(blocks);
+    // A key another design uses: refused, naming the designs that do use it.
+    auto not_here = [&](std::string_view key, bool used, std::string_view users) {
+        if (const toml::node* n = r.find(s, key); n && !used)
+            r.fail(*n, s.key(key), fmt::format("'{}' is not used by the {} design (it applies to {})", key, name, users));
+    };
+    not_here("blocks", k.blocks, "rcbd, split, strip, paired (pairs) and augmented");
+    not_here("replicates", k.replicates, "crd and alpha");
+    not_here("block_size", k.block_size, "alpha");
+    not_here("extra_control", k.extra_control, "factorial crd, rcbd and latin designs");
+
+    auto counted = [&](std::string_view key, std::int64_t lo, std::int64_t hi, std::string_view what) {
+        const std::int64_t v = r.req_integer(s, key);
+        if (v < lo || v > hi)
+            r.fail(*r.find(s, key), s.key(key), fmt::format("expected a whole number of {} from {} to {}, got {}", what, lo, hi, v));
+        return static_cast<int>(v);
+    };
+    if (k.blocks) spec.blocks = counted("blocks", 1, kMaxBlocks, name == "paired" ? "pairs (blocks)" : "blocks");
+    if (k.replicates) spec.replicates = counted("replicates", 1, kMaxReplicates, "replicates");
+    if (k.block_size) spec.block_size = counted("block_size", 2, kMaxTreatments, "plots per incomplete block");
+    if (k.extra_control) spec.extra_control = r.opt_string(s, "extra_control", false).value_or("");
 
     if (auto seed = r.opt_integer(s, "seed")) {
         if (*seed < 0)
@@ -287,14 +367,39 @@ void read_trial(const Reader& r, const toml::table& root, TrialSpec& spec) {
     spec.blind = r.opt_bool(s, "blind").value_or(false);
 }
 
+void read_origin(const Reader& r, const Scope& field, OriginSpec& o) {
+    const toml::node* n = r.find(field, "origin");
+    if (!n) return;
+    const Scope s = r.table(*n, field.key("origin"));
+    r.only_keys(s, {"lat_deg", "lon_deg", "description"});
+    o.lat_deg = r.opt_number(s, "lat_deg");
+    o.lon_deg = r.opt_number(s, "lon_deg");
+    if (o.lat_deg && (*o.lat_deg < -90 || *o.lat_deg > 90))
+        r.fail(*r.find(s, "lat_deg"), s.key("lat_deg"),
+               fmt::format("expected a latitude in degrees from -90 to 90, got {}", show(*o.lat_deg)));
+    if (o.lon_deg && (*o.lon_deg < -180 || *o.lon_deg > 180))
+        r.fail(*r.find(s, "lon_deg"), s.key("lon_deg"),
+               fmt::format("expected a longitude in degrees from -180 to 180, got {}", show(*o.lon_deg)));
+    if (o.lat_deg.has_value() != o.lon_deg.has_value()) {
+        const char* missing = o.lat_deg ? "lon_deg" : "lat_deg";
+        r.fail_at(s.table.source(), s.key(missing), "missing; latitude and longitude are given together or not at all");
+    }
+    o.description = r.opt_string(s, "description", true).value_or("");
+}
+
 void read_field(const Reader& r, const toml::table& root, FieldSpec& f) {
     const Scope s = r.req_table(root, "field");
-    r.only_keys(s, {"plot_length_m", "plot_width_m", "alley_m", "plot_gap_m", "plots_per_row"});
+    r.only_keys(s, {"plot_length_m", "plot_width_m", "alley_m", "plot_gap_m", "plots_per_row", "origin",
+                    "x_bearing_deg", "length_m", "width_m", "border", "harvest_length_m", "harvest_width_m"});
 
-    auto positive = [&](std::string_view k) {
-        const double v = r.req_number(s, k);
+    auto positive_value = [&](std::string_view k, double v) {
         if (v <= 0) r.fail(*r.find(s, k), s.key(k), fmt::format("expected a length in metres greater than 0, got {}", show(v)));
         return v;
+    };
+    auto positive = [&](std::string_view k) { return positive_value(k, r.req_number(s, k)); };
+    auto opt_positive = [&](std::string_view k) -> std::optional<double> {
+        if (auto v = r.opt_number(s, k)) return positive_value(k, *v);
+        return std::nullopt;
     };
     auto non_negative = [&](std::string_view k, bool required) {
         const std::optional<double> v = required ? std::optional<double>(r.req_number(s, k)) : r.opt_number(s, k);
@@ -311,10 +416,38 @@ void read_field(const Reader& r, const toml::table& root, FieldSpec& f) {
         r.fail(*r.find(s, "plots_per_row"), s.key("plots_per_row"),
                fmt::format("expected a whole number from 0 (whole block in one row) to {}, got {}", kMaxTreatments, ppr));
     f.plots_per_row = static_cast<int>(ppr);
+
+    read_origin(r, s, f.origin);
+    if (auto b = r.opt_number(s, "x_bearing_deg")) {
+        if (*b < 0 || *b >= 360)
+            r.fail(*r.find(s, "x_bearing_deg"), s.key("x_bearing_deg"),
+                   fmt::format("expected a compass bearing in degrees, at least 0 and below 360, got {}", show(*b)));
+        f.x_bearing_deg = *b;
+    }
+    f.length_m = opt_positive("length_m");
+    f.width_m = opt_positive("width_m");
+    if (auto b = r.opt_string(s, "border", false)) {
+        bool known = false;
+        for (BorderKind k : {BorderKind::None, BorderKind::Around, BorderKind::GradientEdges})
+            if (*b == to_string(k)) f.border = k, known = true;
+        if (!known)
+            r.fail(*r.find(s, "border"), s.key("border"),
+                   fmt::format("unknown border '{}'; expected one of none, around, gradient_edges", *b));
+    }
+    f.harvest_length_m = opt_positive("harvest_length_m");
+    f.harvest_width_m = opt_positive("harvest_width_m");
+    if (f.harvest_length_m && *f.harvest_length_m > f.plot_length_m)
+        r.fail(*r.find(s, "harvest_length_m"), s.key("harvest_length_m"),
+               fmt::format("the harvest area ({} m) cannot be longer than the plot (plot_length_m = {} m)",
+                           show(*f.harvest_length_m), show(f.plot_length_m)));
+    if (f.harvest_width_m && *f.harvest_width_m > f.plot_width_m)
+        r.fail(*r.find(s, "harvest_width_m"), s.key("harvest_width_m"),
+               fmt::format("the harvest area ({} m) cannot be wider than the plot (plot_width_m = {} m)",
+                           show(*f.harvest_width_m), show(f.plot_width_m)));
 }
 
-void read_gradient(const Reader& r, const toml::table& root, GradientSpec& g) {
-    const Scope s = r.req_table(root, "gradient");
+void read_gradient(const Reader& r, const toml::table& root, GradientSpec& g, std::string_view table = "gradient") {
+    const Scope s = r.req_table(root, table);
     r.only_keys(s, {"bearing_deg", "label"});
     g.bearing_deg = r.req_number(s, "bearing_deg");
     if (g.bearing_deg < 0 || g.bearing_deg >= 360)
@@ -345,6 +478,84 @@ void read_treatments(const Reader& r, const toml::table& root, std::vector<Treat
         out.push_back(std::move(t));
         label_nodes.push_back(label_node);
     }
+}
+
+void read_factors(const Reader& r, const toml::table& root, const std::string& design, bool split_roles,
+                  std::vector<FactorSpec>& out) {
+    const toml::array& a = r.req_array_of_tables(root, "factors");
+    const std::size_t lo = 2, hi = split_roles ? 2 : kMaxFactors;
+    if (a.size() < lo || a.size() > hi)
+        r.fail(a, "factors",
+               split_roles ? fmt::format("the {} design needs exactly 2 [[factors]] tables (A on main plots, B on "
+                                         "subplots), got {}", design, a.size())
+                           : fmt::format("expected 2 or 3 [[factors]] tables, got {} (a single factor is a list of "
+                                         "[[treatments]])", a.size()));
+    std::vector<const toml::node*> role_nodes;
+    std::size_t crossing = 1;
+    for (std::size_t i = 0; i < a.size(); ++i) {
+        const Scope s = r.table(*a.get(i), fmt::format("factors[{}]", i + 1));
+        r.only_keys(s, {"name", "levels", "role"});
+        FactorSpec f;
+        f.name = r.req_string(s, "name");
+        for (std::size_t j = 0; j < out.size(); ++j)
+            if (lower(out[j].name) == lower(f.name))
+                r.fail(*r.find(s, "name"), s.key("name"),
+                       fmt::format("duplicate factor name '{}'; factors[{}] has the same name", f.name, j + 1));
+        const toml::node& ln = r.require(s, "levels", "an array of at least 2 level labels");
+        const auto* levels = ln.as_array();
+        if (!levels) r.fail(ln, s.key("levels"), fmt::format("expected an array of strings, got {}", type_name(ln)));
+        if (levels->size() < 2)
+            r.fail(ln, s.key("levels"), fmt::format("expected at least 2 levels, got {}", levels->size()));
+        for (std::size_t j = 0; j < levels->size(); ++j) {
+            const std::string key = fmt::format("{}[{}]", s.key("levels"), j + 1);
+            std::string level = r.string_value(*levels->get(j), key, false);
+            if (level.find(kFactorLabelSeparator) != std::string::npos)
+                r.fail(*levels->get(j), key,
+                       fmt::format("level '{}' contains the separator '{}' used to join levels into treatment labels",
+                                   level, kFactorLabelSeparator));
+            for (std::size_t m = 0; m < f.levels.size(); ++m)
+                if (lower(f.levels[m]) == lower(level))
+                    r.fail(*levels->get(j), key,
+                           fmt::format("level '{}' repeats levels[{}] (levels are compared ignoring case)", level, m + 1));
+            f.levels.push_back(std::move(level));
+        }
+        crossing *= f.levels.size();
+        if (crossing > static_cast<std::size_t>(kMaxTreatments))
+            r.fail(ln, s.key("levels"), fmt::format("the crossing of the factors has more than {} treatments", kMaxTreatments));
+        if (const toml::node* rn = r.find(s, "role")) {
+            if (!split_roles)
+                r.fail(*rn, s.key("role"),
+                       fmt::format("'role' is used only by the split and strip designs, not by {}", design));
+            f.role = r.string_value(*rn, s.key("role"), false);
+            if (f.role != "main" && f.role != "sub")
+                r.fail(*rn, s.key("role"), fmt::format("unknown role '{}'; expected main or sub", f.role));
+            for (std::size_t j = 0; j < out.size(); ++j)
+                if (out[j].role == f.role)
+                    r.fail(*rn, s.key("role"), fmt::format("factors[{}] already has role '{}'; expected one main and one sub",
+                                                           j + 1, f.role));
+        }
+        role_nodes.push_back(r.find(s, "role"));
+        out.push_back(std::move(f));
+    }
+    if (split_roles) {
+        // Roles: both given, one given (the other takes the other role), or none (first = main, second = sub).
+        if (out[0].role.empty() && out[1].role.empty()) out[0].role = "main";
+        if (out[0].role.empty()) out[0].role = out[1].role == "main" ? "sub" : "main";
+        if (out[1].role.empty()) out[1].role = out[0].role == "main" ? "sub" : "main";
+    }
+}
+
+// Crossed labels cannot repeat (levels are unique within a factor and never contain the separator); the
+// extra control could repeat one of them.
+void check_extra_control(const Reader& r, const toml::table& root, const TrialSpec& spec) {
+    if (spec.extra_control.empty()) return;
+    for (std::size_t i = 0; i + 1 < spec.treatments.size(); ++i)
+        if (lower(spec.treatments[i].label) == lower(spec.extra_control)) {
+            const Scope s = r.table(*root.get("trial"), "trial");
+            r.fail(*r.find(s, "extra_control"), s.key("extra_control"),
+                   fmt::format("'{}' is also treatment {} of the crossing; expected a label of its own",
+                               spec.extra_control, i + 1));
+        }
 }
 
 void read_trait(const Reader& r, const Scope& s, TraitSpec& t) {
@@ -467,13 +678,59 @@ TrialSpec parse_trial_spec(const std::string& toml_text, const std::string& sour
     } catch (const toml::parse_error& e) {
         throw SpecError(r.where(e.source()), "", fmt::format("not valid TOML: {}", e.description()));
     }
-    r.only_keys(Scope{root, ""}, {"trial", "field", "gradient", "treatments", "traits"});
+    r.only_keys(Scope{root, ""}, {"trial", "field", "gradient", "second_gradient", "factors", "treatments", "traits"});
 
     TrialSpec spec;
     read_trial(r, root, spec);
+    const DesignKeys k = keys_of(spec.design);
     read_field(r, root, spec.field);
     read_gradient(r, root, spec.gradient);
-    read_treatments(r, root, spec.treatments);
+
+    if (const toml::node* n = root.get("second_gradient"); n && !k.second_gradient)
+        r.fail(*n, "second_gradient", fmt::format("[second_gradient] is used only by the latin design, not by {}", spec.design));
+    if (k.second_gradient) {
+        if (!root.get("second_gradient"))
+            throw SpecError(source_name, "second_gradient",
+                            "missing table [second_gradient]; a Latin square's columns follow a second gradient at "
+                            "right angles to the first");
+        GradientSpec g;
+        read_gradient(r, root, g, "second_gradient");
+        const double angle = bearing_difference(g.bearing_deg, spec.gradient.bearing_deg);
+        if (std::fabs(angle - 90.0) > kRightAngleToleranceDeg) {
+            const Scope s = r.table(*root.get("second_gradient"), "second_gradient");
+            r.fail(*r.find(s, "bearing_deg"), s.key("bearing_deg"),
+                   fmt::format("the second gradient (bearing {}) is {}° from the first (bearing {}); expected right "
+                               "angles, 90° +/- {}°",
+                               show(g.bearing_deg), show(angle), show(spec.gradient.bearing_deg), show(kRightAngleToleranceDeg)));
+        }
+        spec.second_gradient = g;
+    }
+
+    const toml::node* factors = root.get("factors");
+    if (factors && !k.factors_allowed)
+        r.fail(*factors, "factors",
+               fmt::format("[[factors]] are not used by the {} design (they apply to crd, rcbd, latin, split and strip)",
+                           spec.design));
+    if (factors && root.get("treatments"))
+        r.fail(*root.get("treatments"), "treatments",
+               "give either [[treatments]] or [[factors]] (whose crossing makes the treatments), not both");
+    if (k.factors_required && !factors)
+        throw SpecError(source_name, "factors",
+                        fmt::format("missing; the {} design needs two [[factors]] tables (A on main plots, B on subplots)",
+                                    spec.design));
+    if (factors) {
+        read_factors(r, root, spec.design, spec.design == "split" || spec.design == "strip", spec.factors);
+        spec.treatments = cross_factors(spec.factors, spec.extra_control);
+        check_extra_control(r, root, spec);
+    } else {
+        if (!spec.extra_control.empty()) {
+            const Scope s = r.table(*root.get("trial"), "trial");
+            r.fail(*r.find(s, "extra_control"), "trial.extra_control",
+                   "an extra control is added to the crossing of [[factors]]; with [[treatments]] list it as a "
+                   "treatment with check = true");
+        }
+        read_treatments(r, root, spec.treatments);
+    }
     read_traits(r, root, spec.traits);
     return spec;
 }

@@ -36,9 +36,35 @@ struct TreatmentSpec {
     bool check = false;       // the untreated control or standard variety
 };
 
+// One factor of a factorial treatment structure ([[factors]]): the treatments are the crossing of the
+// factors' levels, first factor slowest (docs/spec.md).
+struct FactorSpec {
+    std::string name;                 // "Nitrogen"
+    std::vector<std::string> levels;  // "N0", "N60", ... at least 2, unique ignoring case
+    std::string role;                 // split/strip: "main" (factor A) or "sub" (factor B); "" elsewhere
+};
+
+// Separator between factor levels in the label of a crossed treatment: "N60 × Sorghum A" (the
+// multiplication sign U+00D7 in UTF-8, between spaces).
+inline constexpr const char* kFactorLabelSeparator = " \xc3\x97 ";
+
 struct GradientSpec {
     double bearing_deg = 0;   // compass bearing (clockwise from north) in which the gradient INCREASES
     std::string label;        // "shade from shelterbelt"
+};
+
+// Guard (border) plots, the same size as the trial's plots, outside the randomized plots.
+enum class BorderKind {
+    None,           // no guard plots
+    Around,         // a ring around the whole trial
+    GradientEdges,  // a row across the trial at the low and at the high end of the gradient
+};
+
+// The reference stake from which the field's x and y axes run. Its position on the Earth is optional.
+struct OriginSpec {
+    std::optional<double> lat_deg;    // WGS 84 latitude, -90..90 (given together with lon_deg)
+    std::optional<double> lon_deg;    // WGS 84 longitude, -180..180
+    std::string description;          // "steel post at the south-west corner"
 };
 
 struct FieldSpec {
@@ -46,7 +72,14 @@ struct FieldSpec {
     double plot_width_m = 0;  // across the gradient
     double alley_m = 0;       // between blocks (and between wrapped rows of one block)
     double plot_gap_m = 0;    // between neighbouring plots within a row
-    int plots_per_row = 0;    // 0: a whole block in one row across the gradient
+    int plots_per_row = 0;    // 0: a whole block in one row across the gradient (or as many as fit width)
+    OriginSpec origin;
+    double x_bearing_deg = 90;                // compass bearing of the field's x axis; y is 90° anticlockwise
+    std::optional<double> length_m;           // field size along its x axis; the trial must fit
+    std::optional<double> width_m;            // field size along its y axis
+    BorderKind border = BorderKind::None;
+    std::optional<double> harvest_length_m;   // net plot along the gradient, <= plot_length_m, centred
+    std::optional<double> harvest_width_m;    // net plot across the gradient, <= plot_width_m, centred
 };
 
 struct TrialSpec {
@@ -54,13 +87,18 @@ struct TrialSpec {
     std::string title;
     std::string site;
     std::string crop;
-    std::string design = "rcbd";
-    int blocks = 0;
+    std::string design = "rcbd";  // crd, rcbd, latin, split, strip, paired, augmented, alpha
+    int blocks = 0;               // rcbd, split, strip, augmented: blocks; paired: pairs; else 0
+    int replicates = 0;           // crd: plots per treatment; alpha: replicates; else 0
+    int block_size = 0;           // alpha: plots per incomplete block; else 0
     bool blind = false;       // never show treatment labels on the handheld
     std::optional<std::uint64_t> seed;
     FieldSpec field;
     GradientSpec gradient;
-    std::vector<TreatmentSpec> treatments;
+    std::optional<GradientSpec> second_gradient;  // latin: the gradient the square's columns follow
+    std::vector<FactorSpec> factors;              // when given, `treatments` is their crossing
+    std::string extra_control;                    // factorial crd/rcbd/latin: one more treatment, last
+    std::vector<TreatmentSpec> treatments;        // expanded: the crossing (+ extra control) for factorials
     std::vector<TraitSpec> traits;
 };
 
@@ -68,7 +106,15 @@ struct TrialSpec {
 // Throws SpecError naming the line and key of the first problem found.
 TrialSpec parse_trial_spec(const std::string& toml_text, const std::string& source_name);
 
+// The accepted values of trial.design, in the order docs/spec.md lists them.
+const std::vector<std::string>& design_names();
+
+// The treatments of a factorial: every combination of levels, first factor slowest, labels joined by
+// kFactorLabelSeparator; then `extra_control` (when not empty) as a check.
+std::vector<TreatmentSpec> cross_factors(const std::vector<FactorSpec>& factors, const std::string& extra_control);
+
 const char* to_string(TraitKind kind);
+const char* to_string(BorderKind kind);
 std::optional<TraitKind> trait_kind_from_string(const std::string& name);
 
 }  // namespace pw

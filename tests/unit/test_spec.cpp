@@ -143,7 +143,8 @@ TEST_CASE("Each refusal names the file, the line and the dotted key with what wa
         {2, "code = \"ABCDEFGHIJK\"", "trial.toml:2", "trial.code", "2 to 10 upper-case letters or digits"},
         {2, "code = 26", "trial.toml:2", "trial.code", "expected a string"},
         {2, "", "trial.toml:1", "trial.code", "missing"},
-        {6, "design = \"latin\"", "trial.toml:6", "trial.design", "accepted designs: rcbd"},
+        {6, "design = \"lattice\"", "trial.toml:6", "trial.design",
+         "accepted designs: crd, rcbd, latin, split, strip, paired, augmented, alpha"},
         {7, "blocks = 0", "trial.toml:7", "trial.blocks", "from 1 to 99"},
         {7, "blocks = 4.5", "trial.toml:7", "trial.blocks", "expected a whole number"},
         {7, "blocks = \"4\"", "trial.toml:7", "trial.blocks", "expected a whole number"},
@@ -257,4 +258,154 @@ TEST_CASE("Trait kinds are named as in the spec format", "[spec]") {
     CHECK(pw::trait_kind_from_string("text") == pw::TraitKind::Text);
     CHECK_FALSE(pw::trait_kind_from_string("Number"));
     CHECK(std::string(pw::to_string(pw::TraitKind::Score)) == "score");
+}
+
+namespace {
+
+// A spec with the given [trial] design lines, [field] extra lines and further tables in place of the
+// [[treatments]]; the rest as kBase. Used for the design-specific keys.
+std::string design_text(const std::string& trial_lines, const std::string& field_lines, const std::string& tables,
+                        bool treatments = true) {
+    std::string s = "[trial]\ncode = \"DES1\"\ntitle = \"T\"\nsite = \"S\"\ncrop = \"wheat\"\n" + trial_lines +
+                    "\n[field]\nplot_length_m = 6.0\nplot_width_m = 3.0\nalley_m = 1.5\n" + field_lines +
+                    "\n[gradient]\nbearing_deg = 0\nlabel = \"slope\"\n" + tables + "\n";
+    if (treatments) s += "[[treatments]]\nlabel = \"A\"\n[[treatments]]\nlabel = \"B\"\ncheck = true\n";
+    s += "[[traits]]\nname = \"grain_kg\"\nunit = \"kg\"\nkind = \"number\"\n";
+    return s;
+}
+
+const std::string kFactors =
+    "[[factors]]\nname = \"Nitrogen\"\nlevels = [\"N0\", \"N60\", \"N120\"]\n"
+    "[[factors]]\nname = \"Variety\"\nlevels = [\"Sorghum A\", \"Sorghum B\"]\n";
+
+}  // namespace
+
+TEST_CASE("The field's geometry keys take their documented defaults", "[spec][geometry]") {
+    // docs/spec.md: x_bearing_deg 90 (east), border none, field size, harvest area and origin absent.
+    const auto spec = pw::parse_trial_spec(edited(8, ""), "trial.toml");
+    CHECK(spec.field.x_bearing_deg == 90.0);
+    CHECK(spec.field.border == pw::BorderKind::None);
+    CHECK_FALSE(spec.field.length_m);
+    CHECK_FALSE(spec.field.width_m);
+    CHECK_FALSE(spec.field.harvest_length_m);
+    CHECK_FALSE(spec.field.harvest_width_m);
+    CHECK_FALSE(spec.field.origin.lat_deg);
+    CHECK(spec.replicates == 0);
+    CHECK(spec.block_size == 0);
+    CHECK(spec.factors.empty());
+    CHECK_FALSE(spec.second_gradient);
+}
+
+TEST_CASE("The field's geometry keys are read into the spec", "[spec][geometry]") {
+    // Values read by hand from the text; TOML v1.0.0: a dotted table header [field.origin] is a sub-table.
+    const std::string text = design_text("design = \"rcbd\"\nblocks = 3",
+                                         "x_bearing_deg = 30\nlength_m = 60\nwidth_m = 40.5\nborder = \"around\"\n"
+                                         "harvest_length_m = 5\nharvest_width_m = 1.5\n"
+                                         "[field.origin]\nlat_deg = -27.5\nlon_deg = 151.25\ndescription = \"post\"",
+                                         "");
+    const auto spec = pw::parse_trial_spec(text, "f.toml");
+    CHECK(spec.field.x_bearing_deg == 30.0);
+    CHECK(*spec.field.length_m == 60.0);
+    CHECK(*spec.field.width_m == 40.5);
+    CHECK(spec.field.border == pw::BorderKind::Around);
+    CHECK(*spec.field.harvest_length_m == 5.0);
+    CHECK(*spec.field.harvest_width_m == 1.5);
+    CHECK(*spec.field.origin.lat_deg == -27.5);
+    CHECK(*spec.field.origin.lon_deg == 151.25);
+    CHECK(spec.field.origin.description == "post");
+    CHECK(std::string(pw::to_string(pw::BorderKind::GradientEdges)) == "gradient_edges");
+}
+
+TEST_CASE("Factors cross into treatments, first factor slowest, with an extra control last", "[spec][factorial]") {
+    // docs/spec.md: labels are the levels joined by " × " (U+00D7); the crossing of 3 x 2 levels lists N0 with
+    // both varieties first (first factor slowest, like the odometer's left wheel); written out by hand.
+    const auto spec = pw::parse_trial_spec(
+        design_text("design = \"rcbd\"\nblocks = 3\nextra_control = \"Untreated\"", "", kFactors, false), "f.toml");
+    REQUIRE(spec.factors.size() == 2);
+    std::vector<std::string> labels;
+    for (const auto& t : spec.treatments) labels.push_back(t.label);
+    CHECK(labels == std::vector<std::string>{"N0 \xc3\x97 Sorghum A", "N0 \xc3\x97 Sorghum B", "N60 \xc3\x97 Sorghum A",
+                                             "N60 \xc3\x97 Sorghum B", "N120 \xc3\x97 Sorghum A",
+                                             "N120 \xc3\x97 Sorghum B", "Untreated"});
+    CHECK(spec.treatments.back().check);
+    CHECK_FALSE(spec.treatments.front().check);
+    CHECK(spec.treatments[2].description == "Nitrogen N60, Variety Sorghum A");
+}
+
+TEST_CASE("Split and strip designs read the factors' roles", "[spec][factorial]") {
+    // docs/spec.md: role main = factor A (main plots), sub = factor B; without roles the first is main.
+    const auto plain = pw::parse_trial_spec(design_text("design = \"split\"\nblocks = 3", "", kFactors, false), "f.toml");
+    CHECK(plain.factors[0].role == "main");
+    CHECK(plain.factors[1].role == "sub");
+    const auto roles = pw::parse_trial_spec(
+        design_text("design = \"strip\"\nblocks = 3", "",
+                    "[[factors]]\nname = \"Nitrogen\"\nlevels = [\"N0\", \"N60\"]\nrole = \"sub\"\n"
+                    "[[factors]]\nname = \"Tillage\"\nlevels = [\"none\", \"disc\"]\n",
+                    false),
+        "f.toml");
+    CHECK(roles.factors[0].role == "sub");
+    CHECK(roles.factors[1].role == "main");
+}
+
+TEST_CASE("Design keys are required where used and refused elsewhere, naming the key", "[spec][errors]") {
+    // docs/spec.md, one row per rule; messages as documented there.
+    const std::string second = "[second_gradient]\nbearing_deg = 90\nlabel = \"shade\"\n";
+    auto [trial, field, tables, with_treatments, key, fragment] =
+        GENERATE_COPY(table<std::string, std::string, std::string, bool, std::string, std::string>({
+            {"design = \"crd\"\nblocks = 3", "", "", true, "trial.blocks", "not used by the crd design"},
+            {"design = \"crd\"", "", "", true, "trial.replicates", "missing"},
+            {"design = \"rcbd\"\nblocks = 3\nreplicates = 2", "", "", true, "trial.replicates", "crd and alpha"},
+            {"design = \"alpha\"\nreplicates = 2", "", "", true, "trial.block_size", "missing"},
+            {"design = \"alpha\"\nreplicates = 2\nblock_size = 1", "", "", true, "trial.block_size", "from 2"},
+            {"design = \"latin\"", "", "", true, "second_gradient", "missing table [second_gradient]"},
+            {"design = \"rcbd\"\nblocks = 3", "", second, true, "second_gradient", "only by the latin design"},
+            {"design = \"latin\"", "", "[second_gradient]\nbearing_deg = 45\nlabel = \"shade\"\n", true,
+             "second_gradient.bearing_deg", "expected right angles"},
+            {"design = \"split\"\nblocks = 3", "", "", true, "factors", "needs two [[factors]]"},
+            {"design = \"paired\"\nblocks = 3", "", kFactors, false, "factors", "not used by the paired design"},
+            {"design = \"rcbd\"\nblocks = 3", "", kFactors, true, "treatments", "not both"},
+            {"design = \"rcbd\"\nblocks = 3\nextra_control = \"U\"", "", "", true, "trial.extra_control",
+             "check = true"},
+            {"design = \"split\"\nblocks = 3\nextra_control = \"U\"", "", kFactors, false, "trial.extra_control",
+             "not used by the split design"},
+            {"design = \"rcbd\"\nblocks = 3\nextra_control = \"n0 \xc3\x97 sorghum a\"", "", kFactors, false,
+             "trial.extra_control", "also treatment 1"},
+            {"design = \"rcbd\"\nblocks = 3", "",
+             "[[factors]]\nname = \"N\"\nlevels = [\"N0\", \"N60\"]\nrole = \"main\"\n"
+             "[[factors]]\nname = \"V\"\nlevels = [\"A\", \"B\"]\n",
+             false, "factors[1].role", "only by the split and strip designs"},
+            {"design = \"rcbd\"\nblocks = 3", "", "[[factors]]\nname = \"N\"\nlevels = [\"N0\", \"N60\"]\n", false,
+             "factors", "2 or 3 [[factors]]"},
+            {"design = \"rcbd\"\nblocks = 3", "",
+             "[[factors]]\nname = \"N\"\nlevels = [\"N0\", \"n0\"]\n[[factors]]\nname = \"V\"\nlevels = [\"A\", \"B\"]\n",
+             false, "factors[1].levels[2]", "repeats levels[1]"},
+            {"design = \"rcbd\"\nblocks = 3", "",
+             "[[factors]]\nname = \"N\"\nlevels = [\"N0\"]\n[[factors]]\nname = \"V\"\nlevels = [\"A\", \"B\"]\n", false,
+             "factors[1].levels", "at least 2 levels"},
+            {"design = \"split\"\nblocks = 3", "",
+             "[[factors]]\nname = \"N\"\nlevels = [\"N0\", \"N1\"]\nrole = \"main\"\n"
+             "[[factors]]\nname = \"V\"\nlevels = [\"A\", \"B\"]\nrole = \"main\"\n",
+             false, "factors[2].role", "one main and one sub"},
+            {"design = \"rcbd\"\nblocks = 3", "border = \"ring\"", "", true, "field.border", "none, around, gradient_edges"},
+            {"design = \"rcbd\"\nblocks = 3", "x_bearing_deg = 360", "", true, "field.x_bearing_deg", "below 360"},
+            {"design = \"rcbd\"\nblocks = 3", "width_m = 0", "", true, "field.width_m", "greater than 0"},
+            {"design = \"rcbd\"\nblocks = 3", "harvest_length_m = 7", "", true, "field.harvest_length_m",
+             "cannot be longer than the plot"},
+            {"design = \"rcbd\"\nblocks = 3", "harvest_width_m = 3.5", "", true, "field.harvest_width_m",
+             "cannot be wider than the plot"},
+            {"design = \"rcbd\"\nblocks = 3", "[field.origin]\nlat_deg = 95\nlon_deg = 10", "", true,
+             "field.origin.lat_deg", "-90 to 90"},
+            {"design = \"rcbd\"\nblocks = 3", "[field.origin]\nlat_deg = 45", "", true, "field.origin.lon_deg",
+             "given together"},
+        }));
+    CAPTURE(trial, field, tables);
+    try {
+        (void)pw::parse_trial_spec(design_text(trial, field, tables, with_treatments), "d.toml");
+        FAIL("accepted");
+    } catch (const pw::SpecError& e) {
+        CAPTURE(e.what());
+        CHECK(e.key == key);
+        CHECK_THAT(e.what(), Catch::Contains(fragment));
+        CHECK_THAT(e.what(), Catch::StartsWith("d.toml"));
+    }
 }
