@@ -342,9 +342,51 @@ TEST_CASE("A spec that cannot be laid out as an RCBD is refused naming the field
     s.treatments[2].label = "t1";
     check(s, "treatments[3].label");
     s = make_spec(4, 4, 0);
-    s.design = "alpha";
+    s.design = "lattice";
     CHECK_THROWS_AS(pw::design_trial(s, 1), pw::DesignError);
-    CHECK_THROWS_WITH(pw::design_trial(s, 1), Catch::StartsWith("trial.design") && Catch::Contains("accepted designs: rcbd"));
+    // docs/spec.md lists the accepted designs in this order.
+    CHECK_THROWS_WITH(pw::design_trial(s, 1),
+                      Catch::StartsWith("trial.design") &&
+                          Catch::Contains("accepted designs: crd, rcbd, latin, split, strip, paired, augmented, alpha"));
     s.design = "rcbd";
     CHECK(pw::design_trial(s, 1).plots.size() == 16);
+}
+
+TEST_CASE("A factorial RCBD holds every combination of the factors' levels once in each block",
+          "[design][rcbd][factorial]") {
+    // Gomez & Gomez 1984, ch. 4 (from memory): a factorial experiment in an RCBD randomizes all a x b (x c)
+    // combinations in each block as t = a b (c) treatments. By hand: 2 x 3 x 2 = 12 combinations, plus an
+    // extra control = 13 treatments per block.
+    const std::string text =
+        "[trial]\ncode = \"FAC1\"\ntitle = \"T\"\nsite = \"S\"\ncrop = \"maize\"\ndesign = \"rcbd\"\nblocks = 3\n"
+        "extra_control = \"Untreated\"\n"
+        "[field]\nplot_length_m = 6\nplot_width_m = 3\nalley_m = 1\n"
+        "[gradient]\nbearing_deg = 0\nlabel = \"slope\"\n"
+        "[[factors]]\nname = \"Tillage\"\nlevels = [\"none\", \"disc\"]\n"
+        "[[factors]]\nname = \"Nitrogen\"\nlevels = [\"N0\", \"N60\", \"N120\"]\n"
+        "[[factors]]\nname = \"Variety\"\nlevels = [\"V1\", \"V2\"]\n"
+        "[[traits]]\nname = \"grain_kg\"\nunit = \"kg\"\nkind = \"number\"\n";
+    const auto spec = pw::parse_trial_spec(text, "fac.toml");
+    REQUIRE(spec.treatments.size() == 13);
+    // First factor slowest: treatment 0 = none x N0 x V1, 1 = none x N0 x V2, ..., 11 = disc x N120 x V2.
+    CHECK(spec.treatments[1].label == "none \xc3\x97 N0 \xc3\x97 V2");
+    CHECK(spec.treatments[11].label == "disc \xc3\x97 N120 \xc3\x97 V2");
+    const auto l = pw::design_trial(spec, 77);
+    for (int b = 1; b <= 3; ++b) {
+        std::set<std::string> combos;
+        int controls = 0;
+        for (const auto* p : block_plots(l, b)) {
+            const auto& t = spec.treatments[static_cast<std::size_t>(p->treatment)];
+            if (t.check) ++controls;
+            else combos.insert(t.label);
+        }
+        CHECK(controls == 1);
+        CHECK(combos.size() == 12);
+        std::set<std::string> expected;
+        for (const char* till : {"none", "disc"})
+            for (const char* n : {"N0", "N60", "N120"})
+                for (const char* v : {"V1", "V2"})
+                    expected.insert(std::string(till) + " \xc3\x97 " + n + " \xc3\x97 " + v);
+        CHECK(combos == expected);
+    }
 }
