@@ -429,8 +429,9 @@ Layout place_on_field(const TrialSpec& spec, const DesignAssignment& a, std::uin
             "if the machine needs a rectangle).",
             short_blocks, blocks.size(), empty_cells));
 
-    // Blocks are meant to be strips across the gradient (not for CRD, Latin square or pairs).
-    if (spec.design != "crd" && spec.design != "latin" && spec.design != "paired") {
+    // Blocks are meant to be strips across the gradient (not for a CRD, a Latin square, pairs, or a strip-plot
+    // block, which is a grid of strips by construction).
+    if (spec.design != "crd" && spec.design != "latin" && spec.design != "paired" && spec.design != "strip") {
         const auto deep = std::find_if(blocks.begin(), blocks.end(), [](const BlockInfo& b) { return b.depth >= b.width; });
         if (deep != blocks.end()) {
             const bool all = std::all_of(blocks.begin(), blocks.end(), [](const BlockInfo& b) { return b.depth >= b.width; });
