@@ -5,6 +5,7 @@
 // GNSS is good to 2-3 cm, common practice).
 #include <fmt/format.h>
 
+#include "core/error.hpp"
 #include "core/tags/payload.hpp"
 #include "storage/csv_table.hpp"
 #include "storage/store.hpp"
@@ -22,16 +23,36 @@ std::string export_observations_csv(const Store& store) {
     return out;
 }
 
+namespace {
+
+// The value of one of the design's own columns (core/design/assignment.hpp names them).
+std::string design_column(const PlotPlacement& p, const std::string& column) {
+    if (column == "rep") return std::to_string(p.rep);
+    if (column == "incomplete_block") return std::to_string(p.incomplete_block);
+    if (column == "main") return std::to_string(p.main);
+    if (column == "sub") return std::to_string(p.sub);
+    if (column == "square_row") return std::to_string(p.square_row);
+    if (column == "square_col") return std::to_string(p.square_col);
+    throw StoreError("plots export: unknown design column '" + column + "'");
+}
+
+}  // namespace
+
 std::string export_plots_csv(const Store& store) {
     const StoredTrial& trial = store.trial();
-    std::string out = csv_record({"plot", "block", "row", "col", "treatment", "x_m", "y_m", "walk_order", "tag"});
+    // The common columns first, in their fixed order; then the design's own (Layout::columns).
+    std::vector<std::string> header = {"plot", "block", "row", "col", "treatment", "x_m", "y_m", "walk_order", "tag"};
+    header.insert(header.end(), trial.layout.columns.begin(), trial.layout.columns.end());
+    std::string out = csv_record(header);
     for (const PlotPlacement& p : trial.layout.plots) {
         // The plot table's foreign key guarantees the index names a treatment of this trial.
         const std::string& label = trial.spec.treatments.at(static_cast<std::size_t>(p.treatment)).label;
-        out += csv_record({std::to_string(p.id), std::to_string(p.block), std::to_string(p.row),
-                           std::to_string(p.col), label, fmt::format("{:.3f}", p.x_m),
-                           fmt::format("{:.3f}", p.y_m), std::to_string(p.walk_order),
-                           qr_payload(trial.spec.code, p.id)});
+        std::vector<std::string> row = {std::to_string(p.id), std::to_string(p.block), std::to_string(p.row),
+                                        std::to_string(p.col), label, fmt::format("{:.3f}", p.x_m),
+                                        fmt::format("{:.3f}", p.y_m), std::to_string(p.walk_order),
+                                        qr_payload(trial.spec.code, p.id)};
+        for (const std::string& c : trial.layout.columns) row.push_back(design_column(p, c));
+        out += csv_record(row);
     }
     return out;
 }

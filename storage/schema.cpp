@@ -151,8 +151,41 @@ WHERE NOT EXISTS (SELECT 1 FROM observation AS c WHERE c.supersedes = o.id);
 
 #undef PW_UTC_CHECK
 
+// Migration 2: the design framework. Every plot gets the design's own columns (0 where they do not apply,
+// which is what every trial made before them, all RCBD, holds) and its harvest area (0 = the whole plot
+// that way); the trial gets the names of the design's columns and its guard plots. Added columns do not
+// fire the plot table's BEFORE UPDATE trigger, and the new rows stay fixed once created like the rest of
+// the layout.
+constexpr const char* kMigration2 = R"sql(
+ALTER TABLE plot ADD COLUMN rep              INTEGER NOT NULL DEFAULT 0 CHECK (rep >= 0);
+ALTER TABLE plot ADD COLUMN incomplete_block INTEGER NOT NULL DEFAULT 0 CHECK (incomplete_block >= 0);
+ALTER TABLE plot ADD COLUMN main             INTEGER NOT NULL DEFAULT 0 CHECK (main >= 0);
+ALTER TABLE plot ADD COLUMN sub              INTEGER NOT NULL DEFAULT 0 CHECK (sub >= 0);
+ALTER TABLE plot ADD COLUMN square_row       INTEGER NOT NULL DEFAULT 0 CHECK (square_row >= 0);
+ALTER TABLE plot ADD COLUMN square_col       INTEGER NOT NULL DEFAULT 0 CHECK (square_col >= 0);
+ALTER TABLE plot ADD COLUMN harvest_x_m      REAL NOT NULL DEFAULT 0 CHECK (harvest_x_m >= 0);
+ALTER TABLE plot ADD COLUMN harvest_y_m      REAL NOT NULL DEFAULT 0 CHECK (harvest_y_m >= 0);
+
+ALTER TABLE trial ADD COLUMN design_columns TEXT NOT NULL DEFAULT '[]'
+    CHECK (json_valid(design_columns) AND json_type(design_columns) = 'array');
+
+CREATE TABLE guard_plot (
+    id            INTEGER PRIMARY KEY CHECK (id >= 1),
+    x_m           REAL NOT NULL,
+    y_m           REAL NOT NULL,
+    width_x_m     REAL NOT NULL CHECK (width_x_m > 0),
+    width_y_m     REAL NOT NULL CHECK (width_y_m > 0)
+) STRICT;
+
+CREATE TRIGGER guard_plot_fixed_update BEFORE UPDATE ON guard_plot
+BEGIN SELECT RAISE(ABORT, 'the trial layout is fixed once created'); END;
+CREATE TRIGGER guard_plot_fixed_delete BEFORE DELETE ON guard_plot
+BEGIN SELECT RAISE(ABORT, 'the trial layout is fixed once created'); END;
+)sql";
+
 constexpr Migration kMigrations[] = {
     {1, kMigration1},
+    {2, kMigration2},
 };
 
 }  // namespace

@@ -128,12 +128,12 @@ void insert_definition(sqlite3* db, const std::string& spec_toml, const std::str
                        const TrialSpec& spec, const Layout& layout, const std::string& now_utc) {
     Statement trial(db,
                     "INSERT INTO trial (id, code, title, spec_toml, spec_source, seed, algorithm, field_x_m, "
-                    "field_y_m, layout_notes, created_utc, app_version) "
-                    "VALUES (1, ?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11)");
+                    "field_y_m, layout_notes, created_utc, app_version, design_columns) "
+                    "VALUES (1, ?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12)");
     trial.bind(1, spec.code).bind(2, spec.title).bind(3, spec_toml).bind(4, spec_source)
         .bind(5, std::to_string(layout.seed)).bind(6, layout.algorithm)
         .bind(7, layout.field_x_m).bind(8, layout.field_y_m).bind(9, nlohmann::json(layout.notes).dump())
-        .bind(10, now_utc).bind(11, PW_APP_VERSION);
+        .bind(10, now_utc).bind(11, PW_APP_VERSION).bind(12, nlohmann::json(layout.columns).dump());
     trial.run();
 
     for (std::size_t i = 0; i < spec.treatments.size(); ++i) {
@@ -155,14 +155,24 @@ void insert_definition(sqlite3* db, const std::string& spec_toml, const std::str
     for (const PlotPlacement& p : layout.plots) {
         Statement st(db,
                      "INSERT INTO plot (id, block, position, walk_order, row, col, treatment, x_m, y_m, "
-                     "width_x_m, width_y_m) VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11)");
+                     "width_x_m, width_y_m, rep, incomplete_block, main, sub, square_row, square_col, "
+                     "harvest_x_m, harvest_y_m) "
+                     "VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16, ?17, ?18, ?19)");
         st.bind(1, p.id).bind(2, p.block).bind(3, p.position).bind(4, p.walk_order).bind(5, p.row)
             .bind(6, p.col).bind(7, p.treatment).bind(8, p.x_m).bind(9, p.y_m).bind(10, p.width_x_m)
-            .bind(11, p.width_y_m);
+            .bind(11, p.width_y_m).bind(12, p.rep).bind(13, p.incomplete_block).bind(14, p.main).bind(15, p.sub)
+            .bind(16, p.square_row).bind(17, p.square_col).bind(18, p.harvest_x_m).bind(19, p.harvest_y_m);
         if (int rc = st.run(true); rc != SQLITE_OK)
             throw StoreError(sql::db_name(db) + ": plot " + std::to_string(p.id) + " refused (" +
                              sqlite3_errmsg(db) + "); treatment index " + std::to_string(p.treatment) + " of " +
                              std::to_string(spec.treatments.size()));
+    }
+    for (std::size_t i = 0; i < layout.guards.size(); ++i) {
+        const GuardPlot& g = layout.guards[i];
+        Statement st(db, "INSERT INTO guard_plot (id, x_m, y_m, width_x_m, width_y_m) VALUES (?1, ?2, ?3, ?4, ?5)");
+        st.bind(1, static_cast<std::int64_t>(i + 1)).bind(2, g.x_m).bind(3, g.y_m).bind(4, g.width_x_m)
+            .bind(5, g.width_y_m);
+        st.run();
     }
 }
 
@@ -171,7 +181,7 @@ StoredTrial load_trial(sqlite3* db, const std::string& path) {
     StoredTrial t;
     Statement st(db,
                  "SELECT spec_toml, spec_source, created_utc, seed, algorithm, field_x_m, field_y_m, "
-                 "layout_notes FROM trial WHERE id = 1");
+                 "layout_notes, design_columns FROM trial WHERE id = 1");
     if (!st.step()) throw StoreError(path + ": the trial table is empty: not a complete plotwright database");
     t.spec_toml = st.text(0);
     t.spec_source = st.text(1);
@@ -184,6 +194,11 @@ StoredTrial load_trial(sqlite3* db, const std::string& path) {
         t.layout.notes = nlohmann::json::parse(st.text(7)).get<std::vector<std::string>>();
     } catch (const nlohmann::json::exception& e) {
         throw StoreError(path + ": trial.layout_notes: expected a JSON array of strings (" + e.what() + ")");
+    }
+    try {
+        t.layout.columns = nlohmann::json::parse(st.text(8)).get<std::vector<std::string>>();
+    } catch (const nlohmann::json::exception& e) {
+        throw StoreError(path + ": trial.design_columns: expected a JSON array of strings (" + e.what() + ")");
     }
     t.spec = parse_stored_spec(t.spec_toml, t.spec_source, path);
 
@@ -214,7 +229,8 @@ StoredTrial load_trial(sqlite3* db, const std::string& path) {
     check_agrees(t.spec, tables, path, "the stored spec text and the treatment/trait tables disagree");
 
     Statement pl(db,
-                 "SELECT id, block, position, walk_order, row, col, treatment, x_m, y_m, width_x_m, width_y_m "
+                 "SELECT id, block, position, walk_order, row, col, treatment, x_m, y_m, width_x_m, width_y_m, "
+                 "rep, incomplete_block, main, sub, square_row, square_col, harvest_x_m, harvest_y_m "
                  "FROM plot ORDER BY walk_order");
     while (pl.step()) {
         PlotPlacement p;
@@ -229,8 +245,18 @@ StoredTrial load_trial(sqlite3* db, const std::string& path) {
         p.y_m = pl.real(8);
         p.width_x_m = pl.real(9);
         p.width_y_m = pl.real(10);
+        p.rep = pl.integer(11);
+        p.incomplete_block = pl.integer(12);
+        p.main = pl.integer(13);
+        p.sub = pl.integer(14);
+        p.square_row = pl.integer(15);
+        p.square_col = pl.integer(16);
+        p.harvest_x_m = pl.real(17);
+        p.harvest_y_m = pl.real(18);
         t.layout.plots.push_back(p);
     }
+    Statement gp(db, "SELECT x_m, y_m, width_x_m, width_y_m FROM guard_plot ORDER BY id");
+    while (gp.step()) t.layout.guards.push_back({gp.real(0), gp.real(1), gp.real(2), gp.real(3)});
     return t;
 }
 

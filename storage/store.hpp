@@ -71,7 +71,8 @@ int store_schema_version();
 
 // RFC 4180 CSV of the current observations: plot,block,treatment,trait,value,unit,recorded_utc,device,observer
 std::string export_observations_csv(const Store& store);
-// RFC 4180 CSV of the layout: plot,block,row,col,treatment,x_m,y_m,walk_order,tag
+// RFC 4180 CSV of the layout: plot,block,row,col,treatment,x_m,y_m,walk_order,tag, then the design's own
+// columns (Layout::columns, e.g. rep,main,sub) in that order
 std::string export_plots_csv(const Store& store);
 
 }  // namespace pw
