@@ -1,0 +1,100 @@
+#!/usr/bin/python3
+"""End-to-end run of one worked example in layouts/: design, plots, tags, record one plot, export.
+
+Usage: layouts_checks.py SPEC PLOTWRIGHT WORKDIR
+
+Runs the real executable as a user would and checks what it wrote with tools outside the project: Python's
+tomllib (TOML v1.0.0) reads the spec, Python's csv module (an RFC 4180 reader) reads the plots and
+observations, and the plot code's check character is computed here from ISO/IEC 7064 MOD 37,36, not by
+the project's code. The columns each design adds to `plots` are those documented in docs/design.md.
+"""
+import csv
+import io
+import pathlib
+import subprocess
+import sys
+import tomllib
+
+# docs/design.md, "Columns of `plots`": the design's own columns, after the common ones.
+DESIGN_COLUMNS = {
+    "crd": [], "rcbd": [], "paired": [],
+    "latin": ["square_row", "square_col"],
+    "split": ["rep", "main", "sub"], "strip": ["rep", "main", "sub"],
+    "augmented": ["incomplete_block"],
+    "alpha": ["rep", "incomplete_block"],
+}
+COMMON = ["plot", "block", "row", "col", "treatment", "x_m", "y_m"]
+
+
+def fail(msg):
+    print("FAIL: " + msg)
+    sys.exit(1)
+
+
+def run(args, stdin=None, expect=0):
+    p = subprocess.run([str(a) for a in args], input=stdin, capture_output=True, text=True)
+    if expect is not None and p.returncode != expect:
+        fail(f"{' '.join(map(str, args))} exited {p.returncode}, expected {expect}\n"
+             f"stdout:\n{p.stdout}\nstderr:\n{p.stderr}")
+    return p
+
+
+def mod37_36_check(data):
+    """ISO/IEC 7064 MOD 37,36 hybrid system, from the standard's recurrence (not from project code)."""
+    alphabet = "0123456789ABCDEFGHIJKLMNOPQRSTUVWXYZ"
+    m = 36
+    p = m
+    for ch in data:
+        t = (p + alphabet.index(ch)) % m
+        p = (2 * (t if t else m)) % (m + 1)
+    return alphabet[(m + 1 - p) % m]
+
+
+def main():
+    spec_path, pw, work = pathlib.Path(sys.argv[1]), pathlib.Path(sys.argv[2]), pathlib.Path(sys.argv[3])
+    work.mkdir(parents=True, exist_ok=True)
+    spec = tomllib.loads(spec_path.read_text())
+    design, code = spec["trial"]["design"], spec["trial"]["code"]
+    db = work / "trial.db"
+    db.unlink(missing_ok=True)
+
+    run([pw, "design", spec_path, "--db", db])
+    text = run([pw, "plots", "--db", db, "--format", "csv"]).stdout
+    reader = csv.reader(io.StringIO(text))
+    header = next(reader)
+    rows = [dict(zip(header, r)) for r in reader]
+    if header[: len(COMMON)] != COMMON:
+        fail(f"plots header {header} does not start with {COMMON}")
+    extra = DESIGN_COLUMNS[design]
+    if extra and header[-len(extra):] != extra:
+        fail(f"plots header {header} does not end with the {design} design's columns {extra}")
+    for c in extra:
+        if not all(r[c].isdigit() and int(r[c]) >= 1 for r in rows):
+            fail(f"column {c} holds a value that is not a whole number of at least 1")
+    ids = [r["plot"] for r in rows]
+    if len(set(ids)) != len(ids) or not all(i.isdigit() and len(i) <= 6 for i in ids):
+        fail(f"plot numbers are not unique numbers of at most 6 digits: {ids}")
+    print(f"ok: {spec_path.name}: {design} design, {len(rows)} plots, columns {header}")
+
+    tags = work / "tags"
+    run([pw, "tags", "--db", db, "--out", tags, "--format", "svg"])
+    svgs = list(tags.glob(f"{code}-*.svg"))
+    if len(svgs) < len(rows):
+        fail(f"{len(svgs)} SVG tags for {len(rows)} plots")
+    print(f"ok: {len(svgs)} tags written")
+
+    first = rows[0]["plot"]
+    trait = spec["traits"][0]
+    value = "1"  # every example's first trait is a number or count that accepts 1
+    payload = f"PW1:{code}-{first}-{mod37_36_check(code + first)}"
+    run([pw, "record", "--db", db, "--observer", "layouts-check", "--device", "ctest"],
+        stdin=f"{payload}\n{value}\n/skip\n")
+    obs = list(csv.DictReader(io.StringIO(run([pw, "export", "--db", db, "--format", "csv"]).stdout)))
+    got = [o for o in obs if o["plot"] == first and o["trait"] == trait["name"]]
+    if len(got) != 1 or float(got[0]["value"]) != 1.0:
+        fail(f"export after recording plot {first}: {obs}")
+    print(f"ok: plot {first} recorded ({trait['name']} = {got[0]['value']}) and exported")
+
+
+if __name__ == "__main__":
+    main()
