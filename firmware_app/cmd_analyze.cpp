@@ -104,7 +104,11 @@ std::vector<RcbdObservation> from_store(const Store& store, const std::string& t
         throw InputError(fmt::format("--trait {}: a {} trait has no ANOVA; choose a number, count or score",
                                      trait_name, to_string(trait->kind)));
     if (t.spec.design != "rcbd")
-        throw InputError(fmt::format("design {} cannot be analysed yet", t.spec.design));
+        throw InputError(fmt::format(
+            "trial {}: the {} design cannot be analysed yet: `plotwright analyze` handles randomized complete "
+            "block designs (rcbd) only; `plotwright export` writes the observations, and `plotwright plots` the "
+            "design's columns, for analysis elsewhere",
+            t.spec.code, t.spec.design));
     s.source = "trial " + t.spec.code;
     s.trait = trait->name;
     s.unit = trait->unit;

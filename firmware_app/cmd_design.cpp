@@ -3,6 +3,7 @@
 #include <fmt/format.h>
 #include <nlohmann/json.hpp>
 
+#include <algorithm>
 #include <iostream>
 
 #include "core/design/layout.hpp"
@@ -36,12 +37,16 @@ void run_design(const DesignOptions& o) {
         std::cout << j.dump(2) << "\n";
         return;
     }
+    int blocks = 0;
+    for (const auto& p : layout.plots) blocks = std::max(blocks, p.block);
     std::cout << fmt::format(
-        "trial {} ({}): {} design, {} treatments x {} blocks = {} plots\n"
-        "seed {} ({}{})\nfield {:.1f} m east x {:.1f} m north from the reference stake\nwritten {}\n",
-        spec.code, spec.title, spec.design, spec.treatments.size(), spec.blocks, layout.plots.size(), seed,
+        "trial {} ({}): {} design, {} treatments in {} blocks = {} plots{}\n"
+        "seed {} ({}{})\nfield {:.1f} m along x (bearing {}) x {:.1f} m along y from the reference stake\n"
+        "written {}\n",
+        spec.code, spec.title, spec.design, spec.treatments.size(), blocks, layout.plots.size(),
+        layout.guards.empty() ? "" : fmt::format(" and {} guard plots", layout.guards.size()), seed,
         layout.algorithm, o.seed ? ", from --seed" : spec.seed ? ", from the spec" : ", drawn now and stored",
-        layout.field_x_m, layout.field_y_m, o.db);
+        layout.field_x_m, spec.field.x_bearing_deg, layout.field_y_m, o.db);
 }
 
 struct PlotsOptions {
