@@ -183,9 +183,25 @@ CREATE TRIGGER guard_plot_fixed_delete BEFORE DELETE ON guard_plot
 BEGIN SELECT RAISE(ABORT, 'the trial layout is fixed once created'); END;
 )sql";
 
+// Migration 3: the layout certificate (docs/certificate.md): the SHA-256 of the layout's canonical text,
+// written with the trial and fixed afterwards. A trial designed before it has no row.
+constexpr const char* kMigration3 = R"sql(
+CREATE TABLE layout_certificate (
+    id            INTEGER PRIMARY KEY CHECK (id = 1) REFERENCES trial (id),
+    format        TEXT NOT NULL CHECK (format <> ''),
+    sha256        TEXT NOT NULL CHECK (length(sha256) = 64 AND sha256 NOT GLOB '*[^0-9a-f]*')
+) STRICT;
+
+CREATE TRIGGER layout_certificate_fixed_update BEFORE UPDATE ON layout_certificate
+BEGIN SELECT RAISE(ABORT, 'the layout certificate is fixed once created'); END;
+CREATE TRIGGER layout_certificate_fixed_delete BEFORE DELETE ON layout_certificate
+BEGIN SELECT RAISE(ABORT, 'the layout certificate is fixed once created'); END;
+)sql";
+
 constexpr Migration kMigrations[] = {
     {1, kMigration1},
     {2, kMigration2},
+    {3, kMigration3},
 };
 
 }  // namespace

@@ -22,6 +22,7 @@
 #include <nlohmann/json.hpp>
 
 #include "core/error.hpp"
+#include "storage/certificate.hpp"
 #include "storage/schema.hpp"
 #include "storage/sqlite_statement.hpp"
 
@@ -341,6 +342,7 @@ Store Store::create(const std::string& path, const std::string& spec_toml, const
         const schema::Migration* ms = schema::migrations(&count);
         for (int i = 0; i < count; ++i) schema::apply(db, ms[i]);
         insert_definition(db, spec_toml, spec_source, parsed, layout, now_utc);
+        insert_certificate(db, parsed, layout);  // docs/certificate.md
         tx.commit();
         impl->trial = load_trial(db, path);
     } catch (...) {
