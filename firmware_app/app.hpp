@@ -25,6 +25,7 @@ void add_export_command(CLI::App& app);
 void add_analyze_command(CLI::App& app);
 void add_demo_command(CLI::App& app);
 void add_plan_command(CLI::App& app);     // plan: replicates needed, power (core/stats/power.hpp)
+void add_verify_command(CLI::App& app);   // verify: the randomization certificate (docs/certificate.md)
 
 }  // namespace pw::app
 namespace pw {

@@ -18,6 +18,7 @@ int main(int argc, char** argv) {
     pw::app::add_export_command(app);
     pw::app::add_analyze_command(app);
     pw::app::add_plan_command(app);
+    pw::app::add_verify_command(app);
     pw::app::add_demo_command(app);
     try {
         app.parse(argc, argv);
