@@ -19,6 +19,8 @@ int main(int argc, char** argv) {
     pw::app::add_analyze_command(app);
     pw::app::add_plan_command(app);
     pw::app::add_verify_command(app);
+    pw::app::add_map_command(app);
+    pw::app::add_stakeout_command(app);
     pw::app::add_demo_command(app);
     try {
         app.parse(argc, argv);
