@@ -70,5 +70,12 @@ RcbdResult analyze_rcbd(const std::vector<RcbdObservation>& data);
 // Boost.Math; both throw std::domain_error for arguments outside the distribution (a programming error).
 double f_upper_tail(double f, double df1, double df2);  // P(F > f), df may be fractional
 double t_quantile(double p, double df);                 // inverse CDF of Student's t, 0 < p < 1
+double t_upper_tail(double t, double df);               // P(T > t)
+
+// The studentized range distribution (core/stats/studentized_range.cpp: Copenhaver & Holland 1988, the
+// algorithm of R's ptukey/qtukey): k means (k >= 2), df error degrees of freedom (df >= 2); throw
+// std::domain_error outside these.
+double studentized_range_cdf(double q, double k, double df);       // P(Q <= q)
+double studentized_range_quantile(double p, double k, double df);  // q with P(Q <= q) = p, 0 < p < 1
 
 }  // namespace pw

@@ -1,4 +1,4 @@
-// Tail probabilities of F and quantiles of Student's t, the two distributions an RCBD analysis needs.
+// Tail probabilities of F and of Student's t, and quantiles of t: the distributions the analyses need.
 //
 // Both come from Boost.Math (fisher_f, students_t) with its default policy, which evaluates in long
 // double and throws std::domain_error on arguments outside the distribution's support. Boost stays
@@ -51,6 +51,15 @@ double t_quantile(double p, double df) {
     }
     const boost::math::students_t_distribution<double> dist(df);
     return boost::math::quantile(dist, p);
+}
+
+// P(T > t) for Student's t on df degrees of freedom, the complement taken directly.
+double t_upper_tail(double t, double df) {
+    require_positive_df(df, "t_upper_tail");
+    if (std::isnan(t)) throw std::domain_error("t_upper_tail: t is not a number");
+    if (std::isinf(t)) return t > 0 ? 0.0 : 1.0;
+    const boost::math::students_t_distribution<double> dist(df);
+    return boost::math::cdf(boost::math::complement(dist, t));
 }
 
 }  // namespace pw
