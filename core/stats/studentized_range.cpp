@@ -7,16 +7,16 @@
 // src/nmath/ptukey.c and qtukey.c, written from the paper; constants below are the paper's):
 //   wprob(w, k): P(range of k standard normals < w) by Gauss–Legendre quadrature (12 points) over the
 //                density of the largest value, the integral split into 2 or 3 intervals;
-//   cdf(q, k, ν) = ∫ wprob(q·√(u/ν)... ) — the range probability integrated over the distribution of
-//                s/σ by 16-point Gauss–Legendre quadrature on successive intervals of length 1, ½, ¼ or ⅛
-//                (by ν) until an interval's contribution is below 1e−14; ν > 25 000 uses wprob directly.
+//   cdf(q, k, ν) = ∫₀^∞ wprob(q·s, k) f(s) ds, f the density of s = √(χ²_ν/ν), by 16-point Gauss–Legendre
+//                quadrature on successive intervals of length 1, ½, ¼ or ⅛ (by ν) until an interval adds
+//                less than 1e−14; for ν > 25 000 s is taken as 1 (wprob alone).
 //   quantile:    the secant method from Odeh & Evans' normal-quantile based starting value (Applied
 //                Statistics algorithm AS 70, 1974, as in the paper), continued here until two iterates
 //                agree to 1e−12 relative rather than R's 1e−4 absolute, so results agree with R's qtukey
 //                to about its own accuracy (R's documentation: "accurate to the 4th decimal place").
 // Only one group of ranges (R's nranges = 1) is needed for Tukey's test.
 //
-// Accuracy (tests/unit/test_studentized_range.cpp): against R 4.2.2 ptukey, about 1e−11 relative;
+// Accuracy (tests/unit/test_studentized_range.cpp): against R 4.2.2 ptukey, within 1e−10 absolute;
 // against R's qtukey, within 1e−4 (R's stated accuracy).
 #include <cmath>
 #include <stdexcept>
@@ -140,7 +140,7 @@ double studentized_range_cdf(double q, double k, double df) {
 
     if (df > dlarg) return wprob(q, k);  // s is σ for practical purposes
 
-    // Density of the chi variable s/σ·√ν on the log scale, integrated over u = s²/σ²·... in steps.
+    // log of the density of s = √(χ²_ν/ν) up to the quadrature's change of variable, plus log(interval).
     const double f2 = df * 0.5;
     double f2lf = ((f2 * std::log(df)) - (df * M_LN2)) - std::lgamma(f2);
     const double f21 = f2 - 1.0;
