@@ -95,13 +95,11 @@ def main():
         fail(f"export after recording plot {first}: {obs}")
     print(f"ok: plot {first} recorded ({trait['name']} = {got[0]['value']}) and exported")
 
-    if design != "rcbd":
-        # The analysis handles the RCBD only for now; other designs are refused with a message saying so.
-        p = run([pw, "analyze", "--db", db, "--trait", trait["name"]], expect=1)
-        if "cannot be analysed yet" not in p.stderr or "rcbd" not in p.stderr:
-            fail(f"analyze of a {design} design: expected a clear refusal, got:\n{p.stderr}")
-        print(f"ok: analyze refuses the {design} design clearly: {p.stderr.strip()}")
-
+    # One recorded plot cannot be analysed: the analysis refuses, naming a treatment with no observed plot.
+    p = run([pw, "analyze", "--db", db, "--trait", trait["name"]], expect=1)
+    if "has no observed plot" not in p.stderr or "treatment" not in p.stderr:
+        fail(f"analyze of a {design} design with one plot recorded: expected a clear refusal, got:\n{p.stderr}")
+    print(f"ok: analyze refuses one recorded plot clearly: {p.stderr.strip()}")
 
 if __name__ == "__main__":
     main()
