@@ -26,6 +26,8 @@ void add_analyze_command(CLI::App& app);
 void add_demo_command(CLI::App& app);
 void add_plan_command(CLI::App& app);     // plan: replicates needed, power (core/stats/power.hpp)
 void add_verify_command(CLI::App& app);   // verify: the randomization certificate (docs/certificate.md)
+void add_map_command(CLI::App& app);      // map: the field drawn to scale (docs/agronomist.md)
+void add_stakeout_command(CLI::App& app); // stakeout: plot corners by tape and GNSS (docs/agronomist.md)
 
 }  // namespace pw::app
 namespace pw {
