@@ -10,6 +10,9 @@ namespace pw {
 enum class EccLevel { L, M, Q, H };
 EccLevel ecc_from_string(const std::string& s);  // "L","M","Q","H"; throws InputError
 
+// Light modules kept around every symbol on each side (ISO/IEC 18004 quiet zone).
+inline constexpr int kQuietZoneModules = 4;
+
 struct QrMatrix {
     int version = 0;
     int width = 0;                     // modules per side, without quiet zone
