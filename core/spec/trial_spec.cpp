@@ -76,6 +76,18 @@ std::vector<TreatmentSpec> cross_factors(const std::vector<FactorSpec>& factors,
     return out;
 }
 
+const std::vector<FlagSpec>& default_flags() {
+    // Plot status with its cause is common practice (DOMAIN: "plot status normal/damaged/missing + cause");
+    // lodging (stems leaning or fallen) is the commonest reason a cereal plot is flagged. A damaged or
+    // lodged plot is still data; a missing plot has none.
+    static const std::vector<FlagSpec> flags{
+        {"damaged", "damaged", false},
+        {"missing", "missing", true},
+        {"lodged", "lodged", false},
+    };
+    return flags;
+}
+
 std::optional<TraitKind> trait_kind_from_string(const std::string& name) {
     for (TraitKind k : {TraitKind::Number, TraitKind::Count, TraitKind::Score, TraitKind::Date, TraitKind::Text})
         if (name == to_string(k)) return k;
@@ -91,6 +103,9 @@ constexpr int kMaxFactors = 3;
 constexpr double kRightAngleToleranceDeg = 10.0;  // a Latin square's two gradients: 90° +/- this
 constexpr int kMaxDecimals = 6;
 constexpr int kMaxTextLength = 2000;
+constexpr std::size_t kMaxFlags = 9;            // the handheld chooses a flag with one key, 1 to 9
+constexpr std::size_t kMaxFlagName = 16;
+constexpr std::size_t kMaxFlagLabel = 10;       // fits the 32-column screen beside its key and a marker
 
 std::string trim(std::string_view s) {
     std::size_t b = 0, e = s.size();
@@ -674,6 +689,65 @@ void read_traits(const Reader& r, const toml::table& root, std::vector<TraitSpec
     }
 }
 
+// Code points in a UTF-8 string (continuation bytes are not counted).
+std::size_t code_points(std::string_view s) {
+    return static_cast<std::size_t>(std::count_if(s.begin(), s.end(), [](char c) { return (c & 0xC0) != 0x80; }));
+}
+
+void read_flags(const Reader& r, const toml::table& root, std::vector<FlagSpec>& out) {
+    const toml::array& a = r.req_array_of_tables(root, "flags");
+    if (a.size() > kMaxFlags)
+        r.fail(a, "flags", fmt::format("expected at most {} flags (the handheld chooses one with a single key, 1 to "
+                                       "{}), got {}", kMaxFlags, kMaxFlags, a.size()));
+    std::vector<const toml::node*> name_nodes;
+    for (std::size_t i = 0; i < a.size(); ++i) {
+        const Scope s = r.table(*a.get(i), fmt::format("flags[{}]", i + 1));
+        r.only_keys(s, {"name", "label", "analysis"});
+        FlagSpec f;
+        f.name = r.req_string(s, "name");
+        const toml::node& name_node = *r.find(s, "name");
+        if (!is_trait_name(f.name) || f.name.size() > kMaxFlagName)
+            r.fail(name_node, s.key("name"),
+                   fmt::format("'{}' is not a flag name; expected a lower-case letter followed by lower-case "
+                               "letters, digits or '_' (at most {} characters), e.g. lodged",
+                               f.name, kMaxFlagName));
+        if (f.name == "normal")
+            r.fail(name_node, s.key("name"), "'normal' is the state of a plot without a flag; expected another name");
+        for (std::size_t j = 0; j < out.size(); ++j)
+            if (out[j].name == f.name)
+                r.fail(name_node, s.key("name"),
+                       fmt::format("duplicate flag name '{}'; flags[{}] (line {}) has the same name", f.name, j + 1,
+                                   name_nodes[j]->source().begin.line));
+        f.label = r.opt_string(s, "label", false).value_or(f.name);
+        if (const toml::node* ln = r.find(s, "label")) {
+            if (code_points(f.label) > kMaxFlagLabel)
+                r.fail(*ln, s.key("label"),
+                       fmt::format("'{}' is too long for the handheld's screen; expected at most {} characters",
+                                   f.label, kMaxFlagLabel));
+            if (std::any_of(f.label.begin(), f.label.end(), [](char c) { return c >= 0 && c < 32; }))
+                r.fail(*ln, s.key("label"), "expected a label without control characters (tabs, line breaks)");
+            for (std::size_t j = 0; j < out.size(); ++j)
+                if (lower(out[j].label) == lower(f.label))
+                    r.fail(*ln, s.key("label"),
+                           fmt::format("label '{}' is also the label of flags[{}]; expected labels that tell the "
+                                       "flags apart (compared ignoring case)", f.label, j + 1));
+        } else if (f.name.size() > kMaxFlagLabel) {
+            r.fail(name_node, s.key("label"),
+                   fmt::format("missing; the name '{}' is longer than {} characters, so give a short label for the "
+                               "handheld's screen", f.name, kMaxFlagLabel));
+        }
+        const toml::node& an = r.require(s, "analysis", "\"keep\" (the plot's values stay data) or \"missing\"");
+        const std::string analysis = r.string_value(an, s.key("analysis"), false);
+        if (analysis != "keep" && analysis != "missing")
+            r.fail(an, s.key("analysis"),
+                   fmt::format("unknown value '{}'; expected \"keep\" (the plot's values stay data, the flag is a "
+                               "note) or \"missing\" (the plot is treated as missing)", analysis));
+        f.missing = analysis == "missing";
+        out.push_back(std::move(f));
+        name_nodes.push_back(&name_node);
+    }
+}
+
 }  // namespace
 
 TrialSpec parse_trial_spec(const std::string& toml_text, const std::string& source_name) {
@@ -684,7 +758,8 @@ TrialSpec parse_trial_spec(const std::string& toml_text, const std::string& sour
     } catch (const toml::parse_error& e) {
         throw SpecError(r.where(e.source()), "", fmt::format("not valid TOML: {}", e.description()));
     }
-    r.only_keys(Scope{root, ""}, {"trial", "field", "gradient", "second_gradient", "factors", "treatments", "traits"});
+    r.only_keys(Scope{root, ""}, {"trial", "field", "gradient", "second_gradient", "factors", "treatments", "traits",
+                                  "flags"});
 
     TrialSpec spec;
     read_trial(r, root, spec);
@@ -738,6 +813,10 @@ TrialSpec parse_trial_spec(const std::string& toml_text, const std::string& sour
         read_treatments(r, root, spec.treatments);
     }
     read_traits(r, root, spec.traits);
+    if (root.get("flags")) {
+        spec.flags.clear();
+        read_flags(r, root, spec.flags);
+    }
     return spec;
 }
 

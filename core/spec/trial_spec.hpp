@@ -82,6 +82,20 @@ struct FieldSpec {
     std::optional<double> harvest_width_m;    // net plot across the gradient, <= plot_width_m, centred
 };
 
+// A flag a technician may put on a plot with a note ([[flags]], docs/spec.md): why the plot is not like
+// the others (hail damage, lodging, washed out). The flags are data: the spec lists them, and when it
+// lists none the trial gets default_flags().
+struct FlagSpec {
+    std::string name;         // [a-z][a-z0-9_]*, at most 16 characters, unique; stored with the event
+    std::string label;        // what the small screen shows, at most 10 characters; defaults to name
+    bool missing = false;     // true: the plot's values are treated as missing by analysis and export;
+                              // false: the values are kept and the flag is a note beside them
+};
+
+// The flags of a trial whose spec has no [[flags]]: damaged (values kept), missing (treated as missing),
+// lodged (values kept).
+const std::vector<FlagSpec>& default_flags();
+
 struct TrialSpec {
     std::string code;         // [A-Z0-9]{2,10}: printed on tags, part of every plot code
     std::string title;
@@ -100,6 +114,7 @@ struct TrialSpec {
     std::string extra_control;                    // factorial crd/rcbd/latin: one more treatment, last
     std::vector<TreatmentSpec> treatments;        // expanded: the crossing (+ extra control) for factorials
     std::vector<TraitSpec> traits;
+    std::vector<FlagSpec> flags = default_flags();  // [[flags]], at most 9 (one key each on the handheld)
 };
 
 // Parses TOML text. `source_name` (usually the file path) is used in error messages.

@@ -409,3 +409,91 @@ TEST_CASE("Design keys are required where used and refused elsewhere, naming the
         CHECK_THAT(e.what(), Catch::StartsWith("d.toml"));
     }
 }
+
+namespace {
+
+// The base text followed by `extra` (line 33 onward), for the [[flags]] section.
+std::string with_tail(const std::string& extra) { return edited(0, "") + extra; }
+
+}  // namespace
+
+// [[flags]] (docs/spec.md): the flags a technician may put on a plot. Plot status with its cause is
+// common practice (DOMAIN: "plot status normal/damaged/missing + cause"); the expected values are read
+// off the TOML texts by hand, line numbers counted from line 33, the first after the base text.
+TEST_CASE("Flags are read from [[flags]] in order, with labels and what they mean for the data", "[spec][flags]") {
+    const pw::TrialSpec s = pw::parse_trial_spec(with_tail(
+                                                     "[[flags]]\n"                       // 33
+                                                     "name = \"lodged\"\n"               // 34
+                                                     "analysis = \"keep\"\n"             // 35
+                                                     "[[flags]]\n"                       // 36
+                                                     "name = \"washed_out\"\n"           // 37
+                                                     "label = \"washout\"\n"             // 38
+                                                     "analysis = \"missing\"\n"),        // 39
+                                                 "trial.toml");
+    REQUIRE(s.flags.size() == 2);
+    CHECK(s.flags[0].name == "lodged");
+    CHECK(s.flags[0].label == "lodged");  // the label defaults to the name
+    CHECK_FALSE(s.flags[0].missing);
+    CHECK(s.flags[1].name == "washed_out");
+    CHECK(s.flags[1].label == "washout");
+    CHECK(s.flags[1].missing);
+}
+
+TEST_CASE("Without [[flags]] a trial offers damaged, missing and lodged", "[spec][flags]") {
+    const pw::TrialSpec s = pw::parse_trial_spec(with_tail(""), "trial.toml");
+    REQUIRE(s.flags.size() == 3);
+    CHECK(s.flags[0].name == "damaged");
+    CHECK_FALSE(s.flags[0].missing);
+    CHECK(s.flags[1].name == "missing");
+    CHECK(s.flags[1].missing);
+    CHECK(s.flags[2].name == "lodged");
+    CHECK_FALSE(s.flags[2].missing);
+}
+
+TEST_CASE("Bad [[flags]] are refused naming the line and key", "[spec][flags][errors]") {
+    auto [tail, where, key, says] = GENERATE(table<std::string, std::string, std::string, std::string>({
+        {"[[flags]]\nname = \"Lodged\"\nanalysis = \"keep\"\n", "trial.toml:34", "flags[1].name", "not a flag name"},
+        {"[[flags]]\nname = \"hail damage\"\nanalysis = \"keep\"\n", "trial.toml:34", "flags[1].name", "not a flag name"},
+        {"[[flags]]\nname = \"normal\"\nanalysis = \"keep\"\n", "trial.toml:34", "flags[1].name", "without a flag"},
+        {"[[flags]]\nname = \"hail\"\nanalysis = \"keep\"\n[[flags]]\nname = \"hail\"\nanalysis = \"missing\"\n",
+         "trial.toml:37", "flags[2].name", "duplicate flag name 'hail'; flags[1] (line 34)"},
+        {"[[flags]]\nname = \"hail\"\nlabel = \"H\"\nanalysis = \"keep\"\n[[flags]]\nname = \"heat\"\nlabel = \"h\"\n"
+         "analysis = \"keep\"\n",
+         "trial.toml:39", "flags[2].label", "also the label of flags[1]"},
+        {"[[flags]]\nname = \"hail\"\nanalysis = \"drop\"\n", "trial.toml:35", "flags[1].analysis", "unknown value 'drop'"},
+        {"[[flags]]\nname = \"hail\"\n", "trial.toml:33", "flags[1].analysis", "missing"},
+        {"[[flags]]\nname = \"hail\"\nlabel = \"hail and wind\"\nanalysis = \"keep\"\n", "trial.toml:35",
+         "flags[1].label", "at most 10 characters"},
+        {"[[flags]]\nname = \"rodent_damage\"\nanalysis = \"keep\"\n", "trial.toml:34", "flags[1].label",
+         "give a short label"},
+        {"[[flags]]\nname = \"hail\"\nreason = \"x\"\nanalysis = \"keep\"\n", "trial.toml:35", "flags[1].reason",
+         "unknown key 'reason'"},
+    }));
+    CAPTURE(tail);
+    try {
+        (void)pw::parse_trial_spec(with_tail(tail), "trial.toml");
+        FAIL("accepted");
+    } catch (const pw::SpecError& e) {
+        CHECK(e.where == where);
+        CHECK(e.key == key);
+        CHECK_THAT(e.what(), Catch::Contains(says));
+    }
+}
+
+TEST_CASE("An empty list of flags is refused by name", "[spec][flags][errors]") {
+    // A top-level key must come before the first table (TOML v1.0.0), so the empty list is line 1.
+    try {
+        (void)pw::parse_trial_spec("flags = []\n" + with_tail(""), "trial.toml");
+        FAIL("accepted");
+    } catch (const pw::SpecError& e) {
+        CHECK(e.where == "trial.toml:1");
+        CHECK(e.key == "flags");
+        CHECK_THAT(e.what(), Catch::Contains("at least one [[flags]]"));
+    }
+}
+
+TEST_CASE("More flags than the handheld's keys 1 to 9 are refused", "[spec][flags][errors]") {
+    std::string tail;
+    for (int i = 1; i <= 10; ++i) tail += "[[flags]]\nname = \"f" + std::to_string(i) + "\"\nanalysis = \"keep\"\n";
+    CHECK_THROWS_WITH(pw::parse_trial_spec(with_tail(tail), "trial.toml"), Catch::Contains("at most 9 flags"));
+}
