@@ -4,6 +4,7 @@
 //
 // Keys: typed characters and a scanner's text go to the typed line; Enter hands it to the session. The
 // function keys in key_hints() run the commands; the same commands can be typed as /skip, /flag ... .
+// The flag key (F3) shows the spec's flags; the next key, 1 to 9, chooses one and its note is asked.
 #include <curses.h>
 #include <fmt/format.h>
 
@@ -48,7 +49,7 @@ struct Recorder {
     RecordingSession& session;
     const TrialSpec& spec;
     ViewState view;
-    std::string pending_flag;  // "damaged" or "missing" while the reason is asked
+    std::string pending_flag;  // the flag's name while its note is asked
     int refused = 0;
 
     void submit(const std::string& line) {
@@ -75,13 +76,24 @@ struct Recorder {
         submit(line);
     }
 
-    void ask_flag(const char* state) {
+    // The flag key: the spec's flags are shown, and the next key chooses one (flag_key) or cancels.
+    void choose_flag() {
         if (!session.open_plot()) {
             view.add({{Severity::Refused, "no plot is open; scan a tag first"}});
             return;
         }
-        pending_flag = state;
-        view.asking = fmt::format("plot {} {}: reason? (empty cancels)", session.open_plot()->id, state);
+        view.choosing_flag = true;
+    }
+
+    void flag_key(int ch) {
+        view.choosing_flag = false;
+        const FlagSpec* f = flag_for_key(spec, ch);
+        if (!f) {
+            view.add({{Severity::Info, "flag cancelled"}});
+            return;
+        }
+        pending_flag = f->name;
+        view.asking = fmt::format("plot {} {}: note? (empty cancels)", session.open_plot()->id, f->label);
     }
 
     // The key table: each function key runs one small action.
@@ -90,11 +102,16 @@ struct Recorder {
             view.help = false;
             return true;
         }
+        if (view.choosing_flag) {
+            if (ch == KEY_RESIZE) return true;
+            flag_key(ch);
+            return true;
+        }
         switch (ch) {
             case KEY_F(1): view.help = true; return true;
             case KEY_F(2): submit("/skip"); return true;
-            case KEY_F(3): ask_flag("damaged"); return true;
-            case KEY_F(4): ask_flag("missing"); return true;
+            case KEY_F(3): choose_flag(); return true;
+            case KEY_F(4): submit("/undo"); return true;
             case KEY_F(5): submit("/fix"); return true;
             case KEY_F(6): submit("/missing"); return true;
             case KEY_F(10): submit("/quit"); return true;

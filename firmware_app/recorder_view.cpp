@@ -80,14 +80,50 @@ const std::vector<KeyHint>& key_hints() {
     static const std::vector<KeyHint> hints{
         {"F1", "help", "help (any key returns)"},
         {"F2", "skip", "skip: leave this plot"},
-        {"F3", "dmg", "flag damaged (asks why)"},
-        {"F4", "lost", "flag missing (asks why)"},
+        {"F3", "flag", "flag the plot (then a note)"},
+        {"F4", "undo", "undo the last saved value"},
         {"F5", "fix", "fix the last saved value"},
         {"F6", "todo", "plots left in this block"},
         {"F10", "end", "end the session"},
     };
     return hints;
 }
+
+const FlagSpec* flag_for_key(const TrialSpec& spec, int ch) {
+    if (ch < '1' || ch > '9') return nullptr;
+    const auto i = static_cast<std::size_t>(ch - '1');
+    return i < spec.flags.size() ? &spec.flags[i] : nullptr;
+}
+
+namespace {
+
+// The flag menu: one line per flag, "3 lodged", with "(no data)" beside a flag that treats the plot as
+// missing; in two columns without the marker when one per line does not fit.
+std::vector<ScreenLine> flag_menu(const RecordingSession& s, const TrialSpec& spec, std::size_t w, std::size_t room) {
+    std::vector<ScreenLine> out;
+    const std::size_t n = spec.flags.size();
+    auto item = [&](std::size_t i, bool marker) {
+        return fmt::format("{} {}{}", i + 1, spec.flags[i].label, marker && spec.flags[i].missing ? " (no data)" : "");
+    };
+    const bool one_per_line = n <= room;
+    const std::size_t lines = one_per_line ? n : (n + 1) / 2;
+    if (lines + 1 <= room)
+        out.push_back({Role::Heading, first_chars(fmt::format("flag plot {}:", s.open_plot() ? s.open_plot()->id : 0), w)});
+    if (one_per_line) {
+        for (std::size_t i = 0; i < n; ++i) out.push_back({Role::Normal, first_chars(item(i, true), w)});
+        return out;
+    }
+    const std::size_t col = w / 2;
+    for (std::size_t i = 0; i < n; i += 2) {
+        std::string left = first_chars(item(i, false), col - 1);
+        std::string line = left + std::string(col - chars(left), ' ');
+        if (i + 1 < n) line += first_chars(item(i + 1, false), w - col);
+        out.push_back({Role::Normal, line});
+    }
+    return out;
+}
+
+}  // namespace
 
 std::vector<ScreenLine> compose_screen(const RecordingSession& s, const TrialSpec& spec, const ViewState& v,
                                        int width, int height) {
@@ -109,7 +145,10 @@ std::vector<ScreenLine> compose_screen(const RecordingSession& s, const TrialSpe
     }
     std::vector<ScreenLine> bottom;
     if (!v.help) {
-        for (const auto& l : wrap(v.asking.empty() ? s.prompt() : v.asking, w)) bottom.push_back({Role::Prompt, l});
+        std::string ask = v.asking.empty() ? s.prompt() : v.asking;
+        if (v.choosing_flag)
+            ask = fmt::format("press 1-{} to choose; other keys cancel", spec.flags.size());
+        for (const auto& l : wrap(ask, w)) bottom.push_back({Role::Prompt, l});
         if (bottom.size() > 2) bottom.resize(2);
         // The typed line keeps its end visible: that is where the cursor is.
         std::string typed = "> " + v.typed + "_";
@@ -124,6 +163,8 @@ std::vector<ScreenLine> compose_screen(const RecordingSession& s, const TrialSpe
         body.push_back(cut(Role::Heading, "keys"));
         for (const auto& k : key_hints()) body.push_back(cut(Role::Normal, k.key + " " + k.long_label));
         body.push_back(cut(Role::Normal, "Enter: confirm; empty: leave the trait"));
+    } else if (v.choosing_flag) {
+        body = flag_menu(s, spec, w, middle);
     } else {
         // The card first (it may take all but two lines), then the messages in what is left: the newest
         // message from its beginning, older ones above it while room remains.

@@ -2,7 +2,8 @@
 // state. Pure: no terminal here, so tests can compose a screen at any size and read it as text.
 //
 // The screen (top to bottom): a status line (trial, progress, next plot), the plot card or the start card,
-// the latest messages, the prompt with what is being typed, and a key bar. Nothing depends on colour alone:
+// the latest messages, the prompt with what is being typed, and a key bar. While a flag is being chosen,
+// the spec's flags take the card's place, each with the one key (1 to 9) that chooses it. Nothing depends on colour alone:
 // each line carries a role, and the terminal layer gives roles attributes (bold, reverse, underline) that
 // read on monochrome screens.
 #pragma once
@@ -25,7 +26,8 @@ struct ScreenLine {
 struct ViewState {
     std::string typed;
     std::deque<Message> recent;           // newest last
-    std::string asking;                   // a question the view asks itself (flag reason), "" when none
+    std::string asking;                   // a question the view asks itself (flag note), "" when none
+    bool choosing_flag = false;           // the flag key was pressed: the next key chooses a flag
     bool help = false;
     std::string device;
     std::string observer;
@@ -39,6 +41,9 @@ struct KeyHint {
     std::string long_label;    // "leave this plot" (help)
 };
 const std::vector<KeyHint>& key_hints();
+
+// The flag chosen by key `ch` ('1' for the first of spec.flags), or null.
+const FlagSpec* flag_for_key(const TrialSpec& spec, int ch);
 
 std::vector<ScreenLine> compose_screen(const RecordingSession& s, const TrialSpec& spec, const ViewState& v,
                                        int width, int height);

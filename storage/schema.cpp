@@ -7,6 +7,7 @@
 //     The trial definition (trial, treatment, trait, plot) is fixed once created, likewise.
 //   - A correction supersedes exactly one earlier observation of the same plot and trait, and an
 //     observation is superseded at most once (unique index on supersedes).
+//   - An empty value is a withdrawal (migration 4): it supersedes an observation and carries no number.
 //   - Timestamps are UTC ISO 8601 "YYYY-MM-DDTHH:MM:SS[.fff]Z" that SQLite's julianday() accepts.
 #include "storage/schema.hpp"
 
@@ -198,10 +199,29 @@ CREATE TRIGGER layout_certificate_fixed_delete BEFORE DELETE ON layout_certifica
 BEGIN SELECT RAISE(ABORT, 'the layout certificate is fixed once created'); END;
 )sql";
 
+// Migration 4: flags from the spec and undo. A plot event names the trial's flag it records (`flag`;
+// '' on rows written before, whose flag is their state's name), while `state` keeps saying what the flag
+// means for the data ('damaged': values kept, 'missing': treated as missing), so a reader of the state
+// alone stays right for old and new rows. An observation with an empty value is a withdrawal (undo back
+// to no value): it must supersede the value it takes back and carry no number. Both are additions: no
+// existing row changes, the ADD COLUMN fires no UPDATE trigger and gives old rows the default.
+constexpr const char* kMigration4 = R"sql(
+ALTER TABLE plot_event ADD COLUMN flag TEXT NOT NULL DEFAULT ''
+    CHECK (flag = '' OR (length(flag) <= 16 AND flag GLOB '[a-z]*' AND flag NOT GLOB '*[^a-z0-9_]*'));
+
+CREATE TRIGGER observation_withdrawal_supersedes
+BEFORE INSERT ON observation
+WHEN NEW.value = '' AND (NEW.supersedes IS NULL OR NEW.number IS NOT NULL)
+BEGIN
+    SELECT RAISE(ABORT, 'an empty value withdraws a value: it must supersede an observation and carry no number');
+END;
+)sql";
+
 constexpr Migration kMigrations[] = {
     {1, kMigration1},
     {2, kMigration2},
     {3, kMigration3},
+    {4, kMigration4},
 };
 
 }  // namespace

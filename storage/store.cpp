@@ -9,12 +9,16 @@
 //   - The spec text is the single definition of the trial: it is re-parsed on every open and checked
 //     against the treatment and trait tables it was stored with.
 //   - uint64 seeds are stored as decimal TEXT (SQLite's INTEGER is a signed 64-bit value).
+//   - A plot event names one of the trial's flags (TrialSpec::flags) and its state says what that flag
+//     means for the data; current_observations() leaves out withdrawals (empty values, an undo back to
+//     no value) and every value of a plot flagged as missing, so every reader sees the same values.
 #include "storage/store.hpp"
 
 #include <fcntl.h>
 #include <sqlite3.h>
 #include <unistd.h>
 
+#include <algorithm>
 #include <cerrno>
 #include <charconv>
 #include <cstring>
@@ -280,6 +284,25 @@ ObservationRecord read_observation(const Statement& st) {
     return r;
 }
 
+// Rows of plot_event in the column order used by read_event.
+constexpr const char* kEventColumns = "plot, state, reason, recorded_utc, device, observer, flag";
+
+PlotEvent read_event(const Statement& st, const std::string& path) {
+    PlotEvent ev;
+    ev.plot = st.integer(0);
+    const std::string state = st.text(1);
+    auto parsed = plot_state_from_string(state);
+    if (!parsed) throw StoreError(path + ": plot_event.state: unknown state '" + state + "'");
+    ev.state = *parsed;
+    ev.reason = st.text(2);
+    ev.recorded_utc = st.text(3);
+    ev.device = st.text(4);
+    ev.observer = st.text(5);
+    ev.flag = st.text(6);
+    if (ev.flag.empty()) ev.flag = state;  // written before migration 4: the state was the flag
+    return ev;
+}
+
 bool exists_row(sqlite3* db, const char* sql_text, std::int64_t key) {
     Statement st(db, sql_text);
     st.bind(1, key);
@@ -416,6 +439,9 @@ std::int64_t Store::add_observation(const NewObservation& obs) {
     const std::string where = impl_->path + ": plot " + std::to_string(obs.plot) + ", trait '" + obs.trait + "'";
     if (obs.supersedes && obs.note.empty())
         throw InputError(where + ": a correction needs a note saying why the earlier value is replaced");
+    if (is_withdrawal(obs) && (!obs.supersedes || obs.number))
+        throw InputError(where + ": an empty value withdraws a value (undo): it must supersede the observation it "
+                                 "takes back and carry no number");
 
     WriteTransaction tx(db);
     Statement ins(db,
@@ -455,12 +481,28 @@ std::int64_t Store::add_observation(const NewObservation& obs) {
 void Store::add_plot_event(const PlotEvent& ev) {
     sqlite3* db = impl_->db.get();
     const std::string where = impl_->path + ": plot " + std::to_string(ev.plot);
+    // The flag must be one of the trial's (TrialSpec::flags), and the state must say what that flag means
+    // for the data, so that a reader of `state` alone (an outside SQL tool) is right.
+    const std::string name = ev.flag.empty() ? to_string(ev.state) : ev.flag;
+    const std::vector<FlagSpec>& flags = impl_->trial.spec.flags;
+    auto f = std::find_if(flags.begin(), flags.end(), [&](const FlagSpec& x) { return x.name == name; });
+    if (f == flags.end()) {
+        std::string names;
+        for (const FlagSpec& x : flags) names += (names.empty() ? "" : ", ") + x.name;
+        throw InputError(where + ": refused: '" + name + "' is not a flag of trial " + impl_->trial.spec.code +
+                         " (its flags: " + names + ")");
+    }
+    const PlotState state = f->missing ? PlotState::Missing : PlotState::Damaged;
+    if (ev.state != state)
+        throw InputError(where + ": refused: flag '" + name + "' " +
+                         (f->missing ? "treats the plot as missing" : "keeps the plot's values") +
+                         ", so its state is " + to_string(state) + ", not " + to_string(ev.state));
     WriteTransaction tx(db);
     Statement ins(db,
-                  "INSERT INTO plot_event (plot, state, reason, recorded_utc, device, observer) "
-                  "VALUES (?1, ?2, ?3, ?4, ?5, ?6)");
+                  "INSERT INTO plot_event (plot, state, reason, recorded_utc, device, observer, flag) "
+                  "VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7)");
     ins.bind(1, ev.plot).bind(2, to_string(ev.state)).bind(3, ev.reason).bind(4, ev.recorded_utc)
-        .bind(5, ev.device).bind(6, ev.observer);
+        .bind(5, ev.device).bind(6, ev.observer).bind(7, name);
     const int rc = ins.run(true);
     if (rc != SQLITE_OK) {
         if (rc == SQLITE_CONSTRAINT_FOREIGNKEY)
@@ -490,6 +532,8 @@ std::vector<ObservationRow> Store::current_observations() const {
                      " JOIN plot AS p ON p.id = o.plot"
                      " JOIN treatment AS tr ON tr.idx = p.treatment"
                      " JOIN trait AS t ON t.name = o.trait"
+                     " WHERE o.value <> ''"  // a withdrawal: no value in force (migration 4)
+                     " AND NOT EXISTS (SELECT 1 FROM plot_event AS e WHERE e.plot = o.plot AND e.state = 'missing')"
                      " ORDER BY p.walk_order, t.position, o.id");
     std::vector<ObservationRow> out;
     while (st.step()) {
@@ -513,22 +557,17 @@ std::vector<ObservationRecord> Store::history(int plot) const {
 }
 
 std::vector<PlotEvent> Store::plot_events() const {
-    Statement st(impl_->db.get(),
-                 "SELECT plot, state, reason, recorded_utc, device, observer FROM plot_event ORDER BY id");
+    Statement st(impl_->db.get(), std::string("SELECT ") + kEventColumns + " FROM plot_event ORDER BY id");
     std::vector<PlotEvent> out;
-    while (st.step()) {
-        PlotEvent ev;
-        ev.plot = st.integer(0);
-        const std::string state = st.text(1);
-        auto parsed = plot_state_from_string(state);
-        if (!parsed) throw StoreError(impl_->path + ": plot_event.state: unknown state '" + state + "'");
-        ev.state = *parsed;
-        ev.reason = st.text(2);
-        ev.recorded_utc = st.text(3);
-        ev.device = st.text(4);
-        ev.observer = st.text(5);
-        out.push_back(std::move(ev));
-    }
+    while (st.step()) out.push_back(read_event(st, impl_->path));
+    return out;
+}
+
+std::vector<PlotEvent> Store::events_for_plot(int plot) const {
+    Statement st(impl_->db.get(), std::string("SELECT ") + kEventColumns + " FROM plot_event WHERE plot = ?1 ORDER BY id");
+    st.bind(1, plot);
+    std::vector<PlotEvent> out;
+    while (st.step()) out.push_back(read_event(st, impl_->path));
     return out;
 }
 

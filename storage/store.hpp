@@ -52,10 +52,14 @@ public:
     std::int64_t add_observation(const NewObservation& obs) override;
     void add_plot_event(const PlotEvent& ev) override;
     std::vector<ObservationRecord> current_for_plot(int plot) const override;
+    std::vector<PlotEvent> events_for_plot(int plot) const override;
 
-    std::vector<ObservationRow> current_observations() const;        // plot walking order, then trait order
+    // The values in force, in plot walking order, then trait order: current observations except
+    // withdrawals (undo back to no value) and except every value of a plot flagged with a flag that
+    // treats it as missing (plot_event.state 'missing'). Exports, analysis and the recorder read these.
+    std::vector<ObservationRow> current_observations() const;
     std::vector<ObservationRecord> history(int plot) const;           // every observation, oldest first
-    std::vector<PlotEvent> plot_events() const;                       // oldest first
+    std::vector<PlotEvent> plot_events() const;                       // oldest first, `flag` filled in
     std::int64_t observation_count() const;                           // all rows, superseded included
 
     sqlite3* handle() const;     // for storage-internal modules (exports, sync)

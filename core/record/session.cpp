@@ -5,7 +5,12 @@
 //  - a message of severity Refused means nothing was written;
 //  - when a trait already has a current value on this plot, a new value supersedes it (the old row stays
 //    in the history), so a re-visit never leaves two competing current values from one device;
-//  - blind trials never put a treatment label into any message or card.
+//  - blind trials never put a treatment label into any message or card;
+//  - undo walks back through this session's confirmations only (confirmed_ is the stack), and writes
+//    a new row that supersedes the newest row of that plot and trait (head_), so the history keeps the
+//    undone value and each plot and trait stays one chain of corrections;
+//  - a withdrawal (empty value) is never shown as a value: current_value() skips it, current_id() does
+//    not, so the next value supersedes it.
 #include "core/record/session.hpp"
 
 #include <fmt/format.h>
@@ -44,10 +49,24 @@ Message info(std::string t) { return {Severity::Info, std::move(t)}; }
 Message warn(std::string t) { return {Severity::Warning, std::move(t)}; }
 Message refuse(std::string t) { return {Severity::Refused, std::move(t)}; }
 
-constexpr const char* kHelp =
-    "scan a tag or type its code to open a plot; then answer each trait (empty line: leave it)\n"
-    "/skip  leave this plot   /flag damaged|missing REASON   /fix [REASON] re-enter the last value\n"
-    "/next  where to go next  /missing  plots of this block without records   /quit  end the session";
+std::string flag_names(const std::vector<FlagSpec>& flags) {
+    std::string out;
+    for (const auto& f : flags) out += (out.empty() ? "" : ", ") + f.name;
+    return out;
+}
+
+std::string help_text(const TrialSpec& spec) {
+    return fmt::format(
+        "scan a tag or type its code to open a plot; then answer each trait (empty line: leave it)\n"
+        "/skip  leave this plot   /flag NAME NOTE  flag the plot ({})\n"
+        "/fix [REASON]  re-enter the last value   /undo  take back the last value\n"
+        "/next  where to go next  /missing  plots of this block without records   /quit  end the session",
+        flag_names(spec.flags));
+}
+
+std::string with_unit(const std::string& value, const TraitSpec& t) {
+    return value + (t.unit.empty() ? "" : " " + t.unit);
+}
 
 }  // namespace
 
@@ -92,8 +111,14 @@ std::optional<std::string> RecordingSession::current_value(int plot, const std::
     if (!plot_ || plot_->id != plot) return std::nullopt;
     std::optional<std::string> v;
     for (const auto& r : plot_current_)
-        if (r.obs.trait == trait) v = r.obs.value;
+        if (r.obs.trait == trait) v = is_withdrawal(r.obs) ? std::nullopt : std::optional<std::string>(r.obs.value);
     return v;
+}
+
+bool RecordingSession::has_records(int plot) const {
+    for (const auto& r : sink_.current_for_plot(plot))
+        if (!is_withdrawal(r.obs)) return true;
+    return !sink_.events_for_plot(plot).empty();
 }
 
 std::vector<std::string> RecordingSession::plot_card() const {
@@ -104,7 +129,13 @@ std::vector<std::string> RecordingSession::plot_card() const {
     lines.push_back(fmt::format("treatment: {}", treatment_shown(p)));
     for (const auto& t : spec_.traits)
         if (auto v = current_value(p.id, t.name))
-            lines.push_back(fmt::format("  {} = {}{}{}", t.name, *v, t.unit.empty() ? "" : " ", t.unit));
+            lines.push_back(fmt::format("  {} = {}", t.name, with_unit(*v, t)));
+    for (const auto& ev : plot_flags_) {
+        std::string label = ev.flag;
+        for (const auto& f : spec_.flags)
+            if (f.name == ev.flag) label = f.label;
+        lines.push_back(fmt::format("flagged {}: {}", label, ev.reason));
+    }
     return lines;
 }
 
@@ -113,7 +144,7 @@ std::string RecordingSession::prompt() const {
     if (!plot_ || !trait_) return "scan or type plot code";
     const auto& t = spec_.traits[*trait_];
     std::string p = fmt::format("{} ({})", t.name, describe_trait(t));
-    if (pending_) return "correct " + p + fmt::format(" [was {}]", last_ ? last_->value : "");
+    if (pending_) return "correct " + p + fmt::format(" [was {}]", confirmed_.empty() ? "" : confirmed_.back().value);
     if (auto v = current_value(plot_->id, t.name)) p += fmt::format(" [was {}]", *v);
     return p;
 }
@@ -164,6 +195,7 @@ std::vector<Message> RecordingSession::open(int plot_id, bool /*scanned*/) {
     plot_ = &p;
     last_block_ = p.block;
     plot_current_ = sink_.current_for_plot(p.id);
+    plot_flags_ = sink_.events_for_plot(p.id);
     if (done_.count(p.id))
         out.push_back(warn(fmt::format("plot {} already has records; a new value replaces the shown one, "
                                        "which stays in the history", p.id)));
@@ -192,6 +224,7 @@ std::vector<Message> RecordingSession::close_plot(const char* why) {
     plot_ = nullptr;
     trait_.reset();
     plot_current_.clear();
+    plot_flags_.clear();
     return out;
 }
 
@@ -230,6 +263,10 @@ std::vector<Message> RecordingSession::take_value(std::string_view line) {
         obs.supersedes = *prev;
         obs.note = "replaced on a later visit";
     }
+    std::optional<NewObservation> before;  // what this value replaces, for undo
+    for (const auto& r : plot_current_)
+        if (obs.supersedes && r.id == *obs.supersedes) before = r.obs;
+    if (!pending_ && before && before->note.rfind("undone", 0) == 0) obs.note = "entered again after an undo";
     std::int64_t id = sink_.add_observation(obs);  // committed when this returns
 
     done_.insert(plot_->id);
@@ -239,9 +276,10 @@ std::vector<Message> RecordingSession::take_value(std::string_view line) {
                                        }),
                         plot_current_.end());
     plot_current_.push_back({id, obs});
-    last_ = Confirmed{id, plot_->id, *trait_, v.text};
-    out.push_back(info(fmt::format("saved {} = {}{}{}{}", t.name, v.text, t.unit.empty() ? "" : " ", t.unit,
-                                   obs.supersedes ? " (earlier value kept in history)" : "")));
+    head_[{plot_->id, *trait_}] = id;
+    confirmed_.push_back(Confirmed{id, plot_->id, *trait_, v.text, before});
+    out.push_back(info(fmt::format("saved {} = {}{}", t.name, with_unit(v.text, t),
+                                   before && !is_withdrawal(*before) ? " (earlier value kept in history)" : "")));
     if (pending_) {
         trait_ = pending_->resume;
         pending_.reset();
@@ -262,7 +300,7 @@ std::vector<Message> RecordingSession::command(std::string_view line) {
     std::string w(word);
     std::transform(w.begin(), w.end(), w.begin(), [](unsigned char c) { return std::tolower(c); });
 
-    if (w == "help") return {info(kHelp)};
+    if (w == "help") return {info(help_text(spec_))};
     if (w == "quit") {
         finished_ = true;
         return {info(fmt::format("session ended; {} of {} plots have records", plots_done(), plots_total()))};
@@ -284,52 +322,113 @@ std::vector<Message> RecordingSession::command(std::string_view line) {
         pending_.reset();
         return close_plot("skipped");
     }
-    if (w == "flag") {
-        if (!plot_) return {refuse("no plot is open; scan a tag first")};
-        std::string_view st = arg.substr(0, arg.find(' '));
-        std::string_view reason = st.size() < arg.size() ? trim(arg.substr(st.size())) : std::string_view{};
-        std::string s(st);
-        std::transform(s.begin(), s.end(), s.begin(), [](unsigned char c) { return std::tolower(c); });
-        auto state = plot_state_from_string(s);
-        if (!state || *state == PlotState::Normal)
-            return {refuse("flag what? write /flag damaged REASON or /flag missing REASON")};
-        if (reason.empty()) return {refuse(fmt::format("/flag {} needs a reason, e.g. /flag {} hail", s, s))};
-        PlotEvent ev;
-        ev.plot = plot_->id;
-        ev.state = *state;
-        ev.reason = std::string(reason);
-        ev.recorded_utc = clock_();
-        ev.device = who_.device;
-        ev.observer = who_.observer;
-        sink_.add_plot_event(ev);
-        done_.insert(plot_->id);
-        std::vector<Message> out{info(fmt::format("plot {} flagged {}: {}", plot_->id, s, reason))};
-        if (*state == PlotState::Missing) {
-            auto closed = close_plot("closed");
-            out.insert(out.end(), closed.begin(), closed.end());
-        }
-        return out;
-    }
+    if (w == "flag") return flag(arg);
+    if (w == "undo") return undo();
     if (w == "fix") {
-        if (!last_) return {refuse("nothing has been saved in this session yet")};
+        if (confirmed_.empty())
+            return {refuse(undone_ ? "no value saved in this session is left to correct (all were undone)"
+                                   : "nothing has been saved in this session yet")};
+        const Confirmed last = confirmed_.back();
         std::vector<Message> out;
         std::optional<std::size_t> resume;
-        if (plot_ && plot_->id == last_->plot) {
+        if (plot_ && plot_->id == last.plot) {
             resume = trait_;
         } else {
             if (plot_) out = close_plot("left for a correction");
-            auto opened = open(last_->plot, false);
+            auto opened = open(last.plot, false);
             out.insert(out.end(), opened.begin(), opened.end());
         }
-        pending_ = Pending{last_->id, last_->plot, last_->trait,
+        pending_ = Pending{head_.at({last.plot, last.trait}), last.plot, last.trait,
                            arg.empty() ? std::string("corrected at entry") : "corrected: " + std::string(arg),
                            resume};
-        trait_ = last_->trait;
+        trait_ = last.trait;
         out.push_back(info(fmt::format("correcting {} of plot {} (was {}); empty line keeps it",
-                                       spec_.traits[last_->trait].name, last_->plot, last_->value)));
+                                       spec_.traits[last.trait].name, last.plot, last.value)));
         return out;
     }
     return {refuse(fmt::format("unknown command /{}; /help lists them", word))};
+}
+
+std::vector<Message> RecordingSession::flag(std::string_view arg) {
+    if (!plot_) return {refuse("no plot is open; scan a tag first")};
+    std::string_view word = arg.substr(0, arg.find(' '));
+    std::string_view note = word.size() < arg.size() ? trim(arg.substr(word.size())) : std::string_view{};
+    std::string name(word);
+    std::transform(name.begin(), name.end(), name.begin(), [](unsigned char c) { return std::tolower(c); });
+    auto f = std::find_if(spec_.flags.begin(), spec_.flags.end(), [&](const FlagSpec& x) { return x.name == name; });
+    if (f == spec_.flags.end())
+        return {refuse(fmt::format("flag what? write /flag NAME NOTE with NAME one of {}", flag_names(spec_.flags)))};
+    if (note.empty()) return {refuse(fmt::format("/flag {} needs a note, e.g. /flag {} hail", name, name))};
+    PlotEvent ev;
+    ev.plot = plot_->id;
+    ev.state = f->missing ? PlotState::Missing : PlotState::Damaged;
+    ev.reason = std::string(note);
+    ev.recorded_utc = clock_();
+    ev.device = who_.device;
+    ev.observer = who_.observer;
+    ev.flag = f->name;
+    sink_.add_plot_event(ev);  // committed when this returns
+    done_.insert(plot_->id);
+    plot_flags_.push_back(ev);
+    std::vector<Message> out{info(fmt::format("plot {} flagged {}: {}{}", plot_->id, f->name, note,
+                                              f->missing ? " (its values count as missing)" : ""))};
+    if (f->missing) {
+        pending_.reset();
+        auto closed = close_plot("closed");
+        out.insert(out.end(), closed.begin(), closed.end());
+    }
+    return out;
+}
+
+// Brings the session to `plot` asking `trait`: the same plot stays open (its values read again), another
+// open plot is left.
+std::vector<Message> RecordingSession::go_to(int plot, std::size_t trait, const char* why) {
+    std::vector<Message> out;
+    if (plot_ && plot_->id == plot) {
+        plot_current_ = sink_.current_for_plot(plot);
+    } else {
+        if (plot_) out = close_plot(why);
+        auto opened = open(plot, false);
+        out.insert(out.end(), opened.begin(), opened.end());
+    }
+    trait_ = trait;
+    return out;
+}
+
+std::vector<Message> RecordingSession::undo() {
+    if (confirmed_.empty())
+        return {refuse(undone_ ? "nothing left to undo: every value saved in this session has been taken back"
+                               : "nothing to undo: no value has been saved in this session")};
+    pending_.reset();
+    const Confirmed e = confirmed_.back();
+    const TraitSpec& t = spec_.traits[e.trait];
+    const bool to_value = e.before && !is_withdrawal(*e.before);
+    NewObservation obs;
+    obs.plot = e.plot;
+    obs.trait = t.name;
+    if (to_value) {
+        obs.value = e.before->value;
+        obs.number = e.before->number;
+        obs.note = "undone: back to " + obs.value;
+    } else {
+        obs.note = "undone: no value";  // a withdrawal: empty value, no number
+    }
+    obs.recorded_utc = clock_();
+    obs.device = who_.device;
+    obs.observer = who_.observer;
+    obs.supersedes = head_.at({e.plot, e.trait});
+    const std::int64_t id = sink_.add_observation(obs);  // committed when this returns
+    head_[{e.plot, e.trait}] = id;
+    confirmed_.pop_back();
+    ++undone_;
+    if (!has_records(e.plot)) done_.erase(e.plot);
+
+    std::vector<Message> out = go_to(e.plot, e.trait, "left for an undo");
+    out.push_back(info(fmt::format("undone: plot {} {} back to {}; {}", e.plot, t.name,
+                                   to_value ? with_unit(obs.value, t) : std::string("no value"),
+                                   confirmed_.empty() ? "nothing more to undo"
+                                                      : fmt::format("{} more to undo", confirmed_.size()))));
+    return out;
 }
 
 }  // namespace pw

@@ -11,13 +11,18 @@
 //   plot code              open that plot (any time; a scanned code also interrupts trait entry)
 //   value                  the answer to the trait being asked; an empty line leaves the trait unrecorded
 //   /skip                  leave the plot, recording nothing more on it
-//   /flag STATE REASON     mark the open plot damaged or missing, with a reason
+//   /flag NAME NOTE        flag the open plot with one of the spec's flags (TrialSpec::flags) and a note;
+//                          a flag that treats the plot as missing closes it
 //   /fix [REASON]          enter again the last value confirmed in this session; the new value supersedes it
+//   /undo                  take back the last value confirmed in this session (a stack: again and again, back
+//                          to the session's start). The store stays append-only: the earlier value is
+//                          written again, or a withdrawal when there was none, superseding the undone one
 //   /next  /missing        where to go next; plots of the current block still without records
 //   /help  /quit
 #pragma once
 #include <cstdint>
 #include <functional>
+#include <map>
 #include <optional>
 #include <set>
 #include <string>
@@ -76,17 +81,23 @@ private:
         std::string note;
         std::optional<std::size_t> resume;  // trait to go back to afterwards (same plot only)
     };
-    struct Confirmed {
+    struct Confirmed {             // one confirmation of this session, on the undo stack
         std::int64_t id = 0;
         int plot = 0;
         std::size_t trait = 0;
         std::string value;
+        // The value it superseded (empty when that was a withdrawal), or none when it was the first.
+        std::optional<NewObservation> before;
     };
 
     std::vector<Message> open(int plot_id, bool scanned);
     std::vector<Message> take_value(std::string_view line);
     std::vector<Message> command(std::string_view line);
     std::vector<Message> close_plot(const char* why);
+    std::vector<Message> flag(std::string_view arg);
+    std::vector<Message> undo();
+    std::vector<Message> go_to(int plot, std::size_t trait, const char* why);
+    bool has_records(int plot) const;
     void advance_trait(std::vector<Message>& out);
     std::optional<std::string> current_value(int plot, const std::string& trait) const;
     std::optional<std::int64_t> current_id(int plot, const std::string& trait) const;
@@ -102,9 +113,12 @@ private:
 
     const PlotPlacement* plot_ = nullptr;         // open plot, or null
     std::optional<std::size_t> trait_;            // trait being asked
-    std::vector<ObservationRecord> plot_current_; // current observations of the open plot
+    std::vector<ObservationRecord> plot_current_; // current observations of the open plot (withdrawals too)
+    std::vector<PlotEvent> plot_flags_;           // flags of the open plot
     std::optional<Pending> pending_;
-    std::optional<Confirmed> last_;
+    std::vector<Confirmed> confirmed_;            // the undo stack, oldest first; back() is the last value
+    std::map<std::pair<int, std::size_t>, std::int64_t> head_;  // (plot, trait) -> newest row written here
+    int undone_ = 0;                              // values taken back in this session
     int last_block_ = 0;
     bool finished_ = false;
 };

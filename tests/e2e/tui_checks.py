@@ -1,7 +1,12 @@
 #!/usr/bin/python3
 """The full-screen recorder in a real terminal: tmux (a general-purpose terminal multiplexer) runs
 `plotwright record` at a given size, send-keys types and scans as a technician would, capture-pane reads
-the screen, and the database is then read back through `plotwright export` and Python's csv module.
+the screen, and the database is then read back through `plotwright export` and Python's csv module, and
+through the sqlite3 shell (SQLite's own command-line tool) for the history and the flags.
+
+The trial is the demo spec with a [[flags]] section of the test's own appended (docs/spec.md), so the
+flags offered on screen come from the spec: undo (F4) and a spec-defined flag (F3, then its key) are
+checked on screen and in the database.
 
 Usage: tui_checks.py PLOTWRIGHT WORKDIR WIDTH HEIGHT
 """
@@ -15,6 +20,21 @@ import time
 
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 DEMO_SPEC = ROOT / "layouts" / "demo.toml"
+FLAGS = """
+[[flags]]
+name = "damaged"
+analysis = "keep"
+
+[[flags]]
+name = "lodged"
+label = "lodged"
+analysis = "keep"
+
+[[flags]]
+name = "washed_out"
+label = "washout"
+analysis = "missing"
+"""
 
 
 def fail(msg):
@@ -58,7 +78,8 @@ class Terminal:
         end = time.time() + seconds
         while time.time() < end:
             s = self.screen()
-            if needle in s:
+            # A message may wrap on a narrow screen: compare with the lines joined by single spaces too.
+            if needle in s or needle in " ".join(s.split()):
                 return s
             time.sleep(0.1)
         fail(f"the screen never showed {needle!r}; it shows:\n{self.screen()}")
@@ -72,7 +93,9 @@ def main():
     shutil.rmtree(work, ignore_errors=True)
     work.mkdir(parents=True)
     db = work / "trial.db"
-    run([pw, "design", DEMO_SPEC, "--db", db])
+    spec = work / "demo-flags.toml"
+    spec.write_text(DEMO_SPEC.read_text() + FLAGS)
+    run([pw, "design", spec, "--db", db])
     plots = list(csv.DictReader(io.StringIO(run([pw, "plots", "--db", db]))))
     tags = [p["tag"] for p in plots]
 
@@ -85,8 +108,12 @@ def main():
         lines = s.rstrip("\n").split("\n")
         if len(lines) > height or any(len(l) > width for l in lines):
             fail(f"the start screen does not fit {width}x{height}:\n{s}")
-        if "SORG26" not in lines[0] or "F2skip" not in s:
+        if "SORG26" not in lines[0] or "F2skip" not in s or "F4undo" not in s:
             fail(f"the start screen lacks the trial or the key bar:\n{s}")
+
+        # Undo before anything was saved: said on screen, nothing written.
+        term.keys("F4")
+        screens.append(term.wait_for("nothing to undo"))
 
         # Plot 1: scan, answer the first trait with a refused value, then a good one, then correct it (F5).
         term.line(tags[0])
@@ -99,20 +126,50 @@ def main():
         screens.append(term.wait_for("correcting grain_kg"))
         term.line("5.52")
         screens.append(term.wait_for("saved grain_kg = 5.52"))
+        # Undo the correction: back to 5.25, asked again with the restored value shown.
+        term.keys("F4")
+        s = term.wait_for("back to 5.25")
+        screens.append(s)
+        if f"undone: plot {plots[0]['plot']} grain_kg" not in " ".join(s.split()):
+            fail(f"the undo message does not name the plot and trait:\n{s}")
+        if "[was 5.25]" not in s:
+            fail(f"after the undo the trait should be asked again showing the restored value:\n{s}")
         term.keys("F2")  # skip the rest of plot 1
         screens.append(term.wait_for("skipped"))
 
-        # Plot 2: flag it damaged with a reason (F3), record one value, skip.
+        # Plot 2: flag it lodged (F3, then the flag's key 2 from the spec), with a note; record one value
+        # and undo it, so the plot keeps no value; skip.
         term.line(tags[1])
         term.wait_for(f"plot {plots[1]['plot']}")
         term.keys("F3")
-        term.wait_for("reason?")
-        term.line("hail")
-        screens.append(term.wait_for("flagged damaged"))
+        s = term.wait_for("2 lodged")
+        screens.append(s)
+        if "1 damaged" not in s or "3 washout" not in s:
+            fail(f"the flag menu should list the spec's flags with their keys:\n{s}")
+        term.keys("2", literal=True)
+        screens.append(term.wait_for("note?"))
+        term.line("stems flat")
+        screens.append(term.wait_for("flagged lodged"))
         term.line("4.10")
         term.wait_for("saved grain_kg = 4.10")
+        term.keys("F4")
+        screens.append(term.wait_for("back to no value"))
         term.keys("F2")
         term.wait_for("skipped")
+
+        # Plot 3: one value, then a flag that treats the plot as missing (key 3): the plot closes, and the
+        # value is left out of the export.
+        term.line(tags[2])
+        term.wait_for(f"plot {plots[2]['plot']}")
+        term.line("3.00")
+        term.wait_for("saved grain_kg = 3.00")
+        term.keys("F3")
+        term.wait_for("3 washout")
+        term.keys("3", literal=True)
+        term.wait_for("note?")
+        term.line("ditch")
+        # On the 32x12 screen the closing message pushes the flag's own line out of view.
+        screens.append(term.wait_for(f"plot {plots[2]['plot']} closed"))
         term.keys("F10")
         time.sleep(0.5)
     finally:
@@ -124,19 +181,29 @@ def main():
                 fail(f"a line is wider than {width}: {l!r}")
     obs = list(csv.DictReader(io.StringIO(run([pw, "export", "--db", db, "--format", "csv"]))))
     got = {(o["plot"], o["trait"]): o["value"] for o in obs}
-    want = {(plots[0]["plot"], "grain_kg"): "5.52", (plots[1]["plot"], "grain_kg"): "4.10"}
+    # Plot 1 back to 5.25 by the undo; plot 2's value undone; plot 3 flagged as missing.
+    want = {(plots[0]["plot"], "grain_kg"): "5.25"}
     if got != want:
-        fail(f"the database holds {got}, expected {want}")
+        fail(f"the export holds {got}, expected {want}")
     sqlite3 = shutil.which("sqlite3")
     if not sqlite3:
         fail("the sqlite3 shell (Debian package sqlite3) is needed to read the history")
-    history = run([sqlite3, db, "SELECT value FROM observation ORDER BY id"]).split()
-    if history != ["5.25", "5.52", "4.10"]:
-        fail(f"the history should keep the corrected value: {history}")
-    events = run([sqlite3, db, "SELECT count(*) FROM plot_event"]).strip()
-    if events != "1":
-        fail(f"one flag expected, found {events}")
-    print(f"ok: {width}x{height}: scan, refusal, value, correction, flag and skip on screen and in the database")
+    # Append-only: every value stays, the undo rows supersede the undone ones.
+    history = run([sqlite3, db, "SELECT plot, quote(value), coalesce(supersedes, '-'), note FROM observation "
+                                "ORDER BY id"]).strip().split("\n")
+    p1, p2, p3 = plots[0]["plot"], plots[1]["plot"], plots[2]["plot"]
+    want_history = [f"{p1}|'5.25'|-|", f"{p1}|'5.52'|1|corrected at entry", f"{p1}|'5.25'|2|undone: back to 5.25",
+                    f"{p2}|'4.10'|-|", f"{p2}|''|4|undone: no value", f"{p3}|'3.00'|-|"]
+    if history != want_history:
+        fail(f"the history should keep every value with the undo rows superseding: {history}, expected {want_history}")
+    current = run([sqlite3, db, "SELECT plot, value FROM current_observation ORDER BY id"]).split()
+    if current != [f"{p1}|5.25", f"{p2}|", f"{p3}|3.00"]:
+        fail(f"current rows: {current}")
+    events = run([sqlite3, db, "SELECT plot, flag, state, reason FROM plot_event ORDER BY id"]).strip().split("\n")
+    if events != [f"{p2}|lodged|damaged|stems flat", f"{p3}|washed_out|missing|ditch"]:
+        fail(f"the flags in the database: {events}")
+    print(f"ok: {width}x{height}: scan, refusal, value, correction, undo, spec flags and skip on screen and in "
+          "the database")
 
 
 if __name__ == "__main__":

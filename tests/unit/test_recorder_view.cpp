@@ -22,6 +22,7 @@ struct NullSink final : RecordSink {
     std::int64_t add_observation(const NewObservation&) override { return ++n; }
     void add_plot_event(const PlotEvent&) override {}
     std::vector<ObservationRecord> current_for_plot(int) const override { return {}; }
+    std::vector<PlotEvent> events_for_plot(int) const override { return {}; }
 };
 
 TrialSpec view_spec(bool blind) {
@@ -114,4 +115,49 @@ TEST_CASE("a blind trial's screens never show a treatment label", "[recorder-vie
     }
     for (const auto& t : spec.treatments) CHECK(seen.find(t.label) == std::string::npos);
     CHECK(seen.find("Sorghum") == std::string::npos);
+}
+
+// The flag key shows the spec's flags, each with the one key that chooses it, and undo is on the key bar
+// of the smallest screen (docs/recording.md). The flags below are the test's own spec data.
+TEST_CASE("the flag menu lists the spec's flags with their keys and the key bar shows undo", "[recorder-view][flags]") {
+    auto [w, h] = GENERATE(table<int, int>({{32, 12}, {80, 24}}));
+    CAPTURE(w, h);
+    TrialSpec spec = view_spec(true);
+    spec.flags = {{"damaged", "damaged", false}, {"washed_out", "washout", true}, {"lodged", "lodged", false}};
+    Layout layout = design_trial(spec, 11);
+    NullSink sink;
+    RecordingSession s(spec, layout, sink, {"hh", "obs"}, [] { return "2026-06-01T08:00:00Z"; }, {});
+    ViewState v;
+    v.add(s.handle(qr_payload(spec.code, layout.plots[0].id)));
+    CHECK_THAT(compose_screen(s, spec, v, w, h).back().text, Catch::Contains("F4undo"));
+    v.choosing_flag = true;
+    auto menu = compose_screen(s, spec, v, w, h);
+    REQUIRE(menu.size() == static_cast<std::size_t>(h));
+    for (const auto& l : menu) CHECK(chars(l.text) <= static_cast<std::size_t>(w));
+    const std::string text = text_of(menu);
+    CHECK_THAT(text, Catch::Contains("1 damaged"));
+    CHECK_THAT(text, Catch::Contains("2 washout (no data)"));
+    CHECK_THAT(text, Catch::Contains("3 lodged"));
+    CHECK_THAT(text, Catch::Contains("press 1-3"));
+    for (const auto& t : spec.treatments) CHECK(text.find(t.label) == std::string::npos);  // blind
+    CHECK(flag_for_key(spec, '2') == &spec.flags[1]);
+    CHECK(flag_for_key(spec, '4') == nullptr);
+    CHECK(flag_for_key(spec, 'a') == nullptr);
+}
+
+TEST_CASE("nine flags still fit the 32x12 screen, two to a line", "[recorder-view][flags]") {
+    TrialSpec spec = view_spec(false);
+    spec.flags.clear();
+    for (int i = 1; i <= 9; ++i) spec.flags.push_back({fmt::format("flag{}", i), fmt::format("reason{}", i), false});
+    Layout layout = design_trial(spec, 11);
+    NullSink sink;
+    RecordingSession s(spec, layout, sink, {"hh", "obs"}, [] { return "2026-06-01T08:00:00Z"; }, {});
+    ViewState v;
+    v.add(s.handle(qr_payload(spec.code, layout.plots[0].id)));
+    v.choosing_flag = true;
+    auto menu = compose_screen(s, spec, v, 32, 12);
+    REQUIRE(menu.size() == 12u);
+    for (const auto& l : menu) CHECK(chars(l.text) <= 32u);
+    const std::string text = text_of(menu);
+    for (int i = 1; i <= 9; ++i) CHECK_THAT(text, Catch::Contains(fmt::format("{} reason{}", i, i)));
 }

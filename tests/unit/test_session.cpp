@@ -36,6 +36,12 @@ struct MemorySink final : RecordSink {
         }
         return out;
     }
+    std::vector<PlotEvent> events_for_plot(int plot) const override {
+        std::vector<PlotEvent> out;
+        for (const auto& e : events)
+            if (e.plot == plot) out.push_back(e);
+        return out;
+    }
 };
 
 TrialSpec small_spec(bool blind) {
@@ -232,8 +238,152 @@ TEST_CASE("a blind trial never shows a treatment label", "[session][blind]") {
         seen += f.session.prompt() + "\n";
         for (auto& m : f.say("5")) seen += m.text + "\n";
         for (auto& l : f.session.plot_card()) seen += l + "\n";
+        for (auto& m : f.say("/flag lodged leaning")) seen += m.text + "\n";
+        for (auto& m : f.say("/undo")) seen += m.text + "\n";
+        for (auto& l : f.session.plot_card()) seen += l + "\n";
         for (auto& m : f.say("/skip")) seen += m.text + "\n";
     }
     for (const auto& t : f.spec.treatments) CHECK(seen.find(t.label) == std::string::npos);
     CHECK_THAT(seen, Catch::Contains("(blind)"));
+}
+
+// Undo (docs/recording.md): the store stays append-only (GLP, DOMAIN [24]: a correction never hides the
+// old value), so an undo is a new row superseding the undone one: the earlier value written again, or a
+// withdrawal (empty value, no number) when the undone value was the first. The expected rows below are
+// read off that rule by hand.
+TEST_CASE("/undo of a first value writes a withdrawal and leaves the trait without a value", "[session][undo]") {
+    Fixture f;
+    int plot = f.layout.plots[0].id;
+    f.say(f.scan(plot));
+    f.say("12.5");
+    CHECK(f.session.plots_done() == 1);
+    auto m = f.say("/undo");
+    CHECK_FALSE(Fixture::refused(m));
+    CHECK_THAT(Fixture::all(m), Catch::Contains(fmt::format("plot {} grain_kg back to no value", plot)));
+    REQUIRE(f.sink.rows.size() == 2);
+    CHECK(f.sink.rows[0].obs.value == "12.50");  // the undone value stays in the history
+    CHECK(f.sink.rows[1].obs.value.empty());
+    CHECK_FALSE(f.sink.rows[1].obs.number.has_value());
+    CHECK(f.sink.rows[1].obs.supersedes == f.sink.rows[0].id);
+    CHECK_THAT(f.sink.rows[1].obs.note, Catch::StartsWith("undone"));
+    // Back where the value was asked, with nothing shown as recorded.
+    CHECK(f.session.asking_trait() == std::optional<std::size_t>(0));
+    CHECK_THAT(f.session.prompt(), !Catch::Contains("[was"));
+    for (const auto& l : f.session.plot_card()) CHECK(l.find("grain_kg =") == std::string::npos);
+    CHECK(f.session.plots_done() == 0);  // no value and no flag: the plot is not done any more
+    // A value typed now supersedes the withdrawal, so the plot and trait stay one chain.
+    f.say("13");
+    REQUIRE(f.sink.rows.size() == 3);
+    CHECK(f.sink.rows[2].obs.supersedes == f.sink.rows[1].id);
+    auto current = f.sink.current_for_plot(plot);
+    REQUIRE(current.size() == 1);
+    CHECK(current[0].obs.value == "13.00");
+}
+
+TEST_CASE("/undo walks back through the session's values, a /fix included, and never past its start",
+          "[session][undo]") {
+    Fixture f;
+    int first = f.layout.plots[0].id, second = f.layout.plots[1].id;
+    // A value from an earlier session: undo must never take it back.
+    NewObservation earlier;
+    earlier.plot = second;
+    earlier.trait = "grain_kg";
+    earlier.value = "9.00";
+    earlier.number = 9.0;
+    earlier.recorded_utc = "2026-06-13T09:00:00Z";
+    earlier.device = "hh-0";
+    earlier.observer = "yesterday";
+    f.sink.add_observation(earlier);  // id 1
+
+    f.say(f.scan(first));
+    f.say("12.5");                     // id 2
+    f.say("/fix transposed digits");
+    f.say("15.2");                     // id 3 supersedes 2
+    f.say(f.scan(second));
+    f.say("10");                       // id 4 supersedes the earlier 9.00 (id 1)
+    REQUIRE(f.sink.rows.size() == 4);
+    CHECK(f.sink.rows[3].obs.supersedes == 1);
+
+    auto m = f.say("/undo");           // id 5: back to yesterday's 9.00
+    CHECK_THAT(Fixture::all(m), Catch::Contains(fmt::format("plot {} grain_kg back to 9.00 kg", second)));
+    REQUIRE(f.sink.rows.size() == 5);
+    CHECK(f.sink.rows[4].obs.value == "9.00");
+    CHECK(f.sink.rows[4].obs.number == Approx(9.0));
+    CHECK(f.sink.rows[4].obs.supersedes == 4);
+
+    m = f.say("/undo");                // id 6: the fix taken back, plot `first` reopened at grain_kg
+    CHECK_THAT(Fixture::all(m), Catch::Contains(fmt::format("plot {} grain_kg back to 12.50 kg", first)));
+    REQUIRE(f.session.open_plot() != nullptr);
+    CHECK(f.session.open_plot()->id == first);
+    CHECK(f.session.asking_trait() == std::optional<std::size_t>(0));
+    CHECK_THAT(f.session.prompt(), Catch::Contains("[was 12.50]"));
+    REQUIRE(f.sink.rows.size() == 6);
+    CHECK(f.sink.rows[5].obs.supersedes == 3);
+
+    m = f.say("/undo");                // id 7: the first value withdrawn, superseding the restored row 6
+    CHECK_THAT(Fixture::all(m), Catch::Contains(fmt::format("plot {} grain_kg back to no value", first)));
+    REQUIRE(f.sink.rows.size() == 7);
+    CHECK(f.sink.rows[6].obs.supersedes == 6);
+    CHECK(f.sink.rows[6].obs.value.empty());
+
+    m = f.say("/undo");                // nothing of this session is left: refused, nothing written
+    CHECK(Fixture::refused(m));
+    CHECK_THAT(Fixture::all(m), Catch::Contains("nothing left to undo"));
+    CHECK(f.sink.rows.size() == 7);
+    auto current = f.sink.current_for_plot(second);
+    REQUIRE(current.size() == 1);
+    CHECK(current[0].obs.value == "9.00");  // the earlier session's value is in force again
+    CHECK(f.session.plots_done() == 1);     // `second` keeps the earlier value; `first` has none again
+}
+
+TEST_CASE("/undo with nothing saved says so and writes nothing", "[session][undo]") {
+    Fixture f;
+    auto m = f.say("/undo");
+    CHECK(Fixture::refused(m));
+    CHECK_THAT(Fixture::all(m), Catch::Contains("nothing to undo"));
+    CHECK(f.sink.rows.empty());
+}
+
+// Flags are data of the spec (docs/spec.md [[flags]]); the plot status with a cause is common practice
+// (DOMAIN: "plot status normal/damaged/missing + cause").
+TEST_CASE("/flag takes the spec's flags by name, with a note; a flag counting as missing closes the plot",
+          "[session][flags]") {
+    Fixture f;
+    f.spec.flags = {{"lodged", "lodged", false}, {"hailed", "hail", false}, {"gone", "gone", true}};
+    int plot = f.layout.plots[0].id;
+    f.say(f.scan(plot));
+    auto m = f.say("/flag damaged hail");  // not a flag of this spec
+    CHECK(Fixture::refused(m));
+    CHECK_THAT(Fixture::all(m), Catch::Contains("lodged, hailed, gone"));
+    CHECK(Fixture::refused(f.say("/flag lodged")));  // a note is required
+    CHECK(f.sink.events.empty());
+
+    m = f.say("/flag LODGED stems flat after the storm");
+    CHECK_FALSE(Fixture::refused(m));
+    REQUIRE(f.sink.events.size() == 1);
+    CHECK(f.sink.events[0].flag == "lodged");
+    CHECK(f.sink.events[0].state == PlotState::Damaged);  // the plot's values are kept
+    CHECK(f.sink.events[0].reason == "stems flat after the storm");
+    REQUIRE(f.session.open_plot() != nullptr);  // still recording it
+    std::string card;
+    for (const auto& l : f.session.plot_card()) card += l + "\n";
+    CHECK_THAT(card, Catch::Contains("flagged lodged: stems flat after the storm"));
+
+    f.say("/flag gone washed out");
+    REQUIRE(f.sink.events.size() == 2);
+    CHECK(f.sink.events[1].flag == "gone");
+    CHECK(f.sink.events[1].state == PlotState::Missing);
+    CHECK(f.session.open_plot() == nullptr);
+    CHECK(f.session.plots_done() == 1);
+}
+
+TEST_CASE("a spec without flags offers damaged, missing and lodged", "[session][flags]") {
+    Fixture f;
+    f.say(f.scan(f.layout.plots[0].id));
+    auto m = f.say("/help");
+    CHECK_THAT(Fixture::all(m), Catch::Contains("damaged, missing, lodged"));
+    f.say("/flag lodged leaning");
+    REQUIRE(f.sink.events.size() == 1);
+    CHECK(f.sink.events[0].flag == "lodged");
+    CHECK(f.sink.events[0].state == PlotState::Damaged);
 }
