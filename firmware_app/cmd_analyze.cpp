@@ -14,7 +14,6 @@
 #include "core/stats/analysis.hpp"
 #include "core/stats/decimal_shift.hpp"
 #include "firmware_app/app.hpp"
-#include "firmware_app/trait_analysis.hpp"
 #include "storage/csv_table.hpp"
 #include "storage/store.hpp"
 
@@ -268,9 +267,14 @@ TrialData from_store(const Store& store, const std::string& trait_name, Subject&
             if (row.record.id > it->second->record.id) it->second = &row;
         }
     }
-    std::map<int, std::string> flags;
-    for (const auto& ev : store.plot_events())
-        flags[ev.plot] = fmt::format("flagged {}: {}", to_string(ev.state), ev.reason);
+    // Flags (oldest first): a flag that treats the plot as missing leaves its values out, recorded before or
+    // after (docs/recording.md); other flags keep the values, with a note.
+    std::map<int, std::string> flags, missing_flags;
+    for (const auto& ev : store.plot_events()) {
+        const std::string text = fmt::format("flagged {}: {}", ev.flag.empty() ? to_string(ev.state) : ev.flag, ev.reason);
+        flags[ev.plot] = text;
+        if (ev.state == PlotState::Missing) missing_flags[ev.plot] = text;
+    }
 
     // The design's columns of every plot (docs/design.md), in treatment (spec) order then block order.
     const std::string& design = t.spec.design;
@@ -314,6 +318,12 @@ TrialData from_store(const Store& store, const std::string& trait_name, Subject&
         }
         auto flag = flags.find(p->id);
         auto it = latest.find(p->id);
+        if (auto mf = missing_flags.find(p->id); mf != missing_flags.end()) {
+            s.missing_why[i] = fmt::format("plot {}: {}{}", p->id, mf->second,
+                                           it == latest.end() ? "" : "; its recorded value is not used");
+            d.y.push_back(std::nan(""));
+            continue;
+        }
         if (it == latest.end()) {
             s.missing_why[i] = fmt::format("plot {}{}", p->id, flag == flags.end() ? ": no value recorded" : ": " + flag->second);
             d.y.push_back(std::nan(""));  // a known plot without a value (analysis.hpp)
@@ -447,19 +457,6 @@ std::string analyze_trait(const Store& store, const std::string& trait, bool jso
     Subject s;
     const AnalysisResult r = analyze_trial(from_store(store, trait, s));
     return json ? render_json(s, r) : render_text(s, r);
-}
-
-TraitAnalysis analyze_trait_result(const Store& store, const std::string& trait) {
-    Subject s;
-    TraitAnalysis t;
-    t.result = analyze_trial(from_store(store, trait, s));
-    t.unit = s.unit;
-    t.missing_why = s.missing_why;
-    for (const auto& n : t.result.notes) {
-        if (n.find("is missing; the model predicts") == std::string::npos) t.notes.push_back(n);
-    }
-    t.notes.insert(t.notes.end(), s.notes.begin(), s.notes.end());
-    return t;
 }
 
 void add_analyze_command(CLI::App& app) {
