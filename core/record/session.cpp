@@ -74,7 +74,22 @@ RecordingSession::RecordingSession(const TrialSpec& spec, const Layout& layout, 
                                    RecorderIdentity who, Clock clock, std::set<int> done_plots)
     : spec_(spec), layout_(layout), sink_(sink), who_(std::move(who)), clock_(std::move(clock)),
       done_(std::move(done_plots)) {
-    for (std::size_t i = 0; i < layout_.plots.size(); ++i) by_id_[layout_.plots[i].id] = i;
+    for (std::size_t i = 0; i < layout_.plots.size(); ++i) {
+        const PlotPlacement& p = layout_.plots[i];
+        by_id_[p.id] = i;
+        by_block_[p.block].push_back(i);
+        if (!done_.count(p.id)) not_done_.insert(i);
+    }
+}
+
+void RecordingSession::mark_done(int plot_id) {
+    done_.insert(plot_id);
+    not_done_.erase(by_id_.at(plot_id));
+}
+
+void RecordingSession::mark_not_done(int plot_id) {
+    done_.erase(plot_id);
+    not_done_.insert(by_id_.at(plot_id));
 }
 
 const PlotPlacement* RecordingSession::open_plot() const { return plot_; }
@@ -87,15 +102,17 @@ std::string RecordingSession::treatment_shown(const PlotPlacement& p) const {
 }
 
 const PlotPlacement* RecordingSession::next_in_walk() const {
-    for (const auto& p : layout_.plots)
-        if (!done_.count(p.id) && (!plot_ || p.id != plot_->id)) return &p;
+    for (std::size_t i : not_done_)  // at most two steps: the open plot is skipped
+        if (!plot_ || layout_.plots[i].id != plot_->id) return &layout_.plots[i];
     return nullptr;
 }
 
 std::vector<int> RecordingSession::missing_in_block(int block) const {
     std::vector<int> ids;
-    for (const auto& p : layout_.plots)
-        if (p.block == block && !done_.count(p.id)) ids.push_back(p.id);
+    const auto it = by_block_.find(block);
+    if (it == by_block_.end()) return ids;
+    for (std::size_t i : it->second)
+        if (!done_.count(layout_.plots[i].id)) ids.push_back(layout_.plots[i].id);
     return ids;
 }
 
@@ -269,7 +286,7 @@ std::vector<Message> RecordingSession::take_value(std::string_view line) {
     if (!pending_ && before && before->note.rfind("undone", 0) == 0) obs.note = "entered again after an undo";
     std::int64_t id = sink_.add_observation(obs);  // committed when this returns
 
-    done_.insert(plot_->id);
+    mark_done(plot_->id);
     plot_current_.erase(std::remove_if(plot_current_.begin(), plot_current_.end(),
                                        [&](const ObservationRecord& r) {
                                            return obs.supersedes && r.id == *obs.supersedes;
@@ -368,7 +385,7 @@ std::vector<Message> RecordingSession::flag(std::string_view arg) {
     ev.observer = who_.observer;
     ev.flag = f->name;
     sink_.add_plot_event(ev);  // committed when this returns
-    done_.insert(plot_->id);
+    mark_done(plot_->id);
     plot_flags_.push_back(ev);
     std::vector<Message> out{info(fmt::format("plot {} flagged {}: {}{}", plot_->id, f->name, note,
                                               f->missing ? " (its values count as missing)" : ""))};
@@ -421,7 +438,7 @@ std::vector<Message> RecordingSession::undo() {
     head_[{e.plot, e.trait}] = id;
     confirmed_.pop_back();
     ++undone_;
-    if (!has_records(e.plot)) done_.erase(e.plot);
+    if (!has_records(e.plot)) mark_not_done(e.plot);
 
     std::vector<Message> out = go_to(e.plot, e.trait, "left for an undo");
     out.push_back(info(fmt::format("undone: plot {} {} back to {}; {}", e.plot, t.name,

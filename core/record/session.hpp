@@ -108,7 +108,14 @@ private:
     RecordSink& sink_;
     RecorderIdentity who_;
     Clock clock_;
+    void mark_done(int plot_id);
+    void mark_not_done(int plot_id);
+
+    // Done plots, and the rest by layout index (= walking order), so that the next plot and a block's
+    // missing plots cost an index lookup, not a pass over the whole trial (docs/benchmarks.md).
     std::set<int> done_;
+    std::set<std::size_t> not_done_;                            // layout indices of plots not done
+    std::unordered_map<int, std::vector<std::size_t>> by_block_;  // block -> layout indices, walking order
     std::unordered_map<int, std::size_t> by_id_;  // plot id -> index in layout_.plots
 
     const PlotPlacement* plot_ = nullptr;         // open plot, or null
