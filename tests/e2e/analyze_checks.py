@@ -188,17 +188,30 @@ def db_case(layout, pw, work):
     if design not in ("split", "strip"):
         candidates = [i for i, r in enumerate(rows) if design != "augmented" or r["treatment"] in checks]
         skip = candidates[2]
+    # And one recorded plot flagged `missing` (the default flags, docs/recording.md): its value must be left out.
+    flagged = None
+    if design not in ("split", "strip", "augmented") and "flags" not in spec:
+        flagged = 5
     lines, values = [], {}
     for i, r in enumerate(rows):
         if i == skip:
             continue
         v = value_of(i, r, trait.get("decimals", 2))
+        if i == flagged:
+            lines += [r["tag"], f"{v}", "/flag missing washout from the ditch"]  # the flag closes the plot
+            continue
         values[r["plot"]] = v
         lines += [r["tag"], f"{v}"] + (["/skip"] if len(spec["traits"]) > 1 else [])  # /skip: the plot's other traits
     run([pw, "record", "--db", db, "--observer", "analyze-check", "--device", "ctest"], stdin="\n".join(lines) + "\n")
     result = json.loads(run([pw, "analyze", "--db", db, "--trait", trait["name"], "--json"]).stdout)
-    if skip is not None and len(result["missing"]) != 1:
-        fail(f"expected one missing plot, got {result['missing']}")
+    expected_missing = (skip is not None) + (flagged is not None)
+    if len(result["missing"]) != expected_missing:
+        fail(f"expected {expected_missing} missing plots, got {result['missing']}")
+    if flagged is not None:
+        m = [x for x in result["missing"] if x["plot"] == rows[flagged]["plot"]]
+        if not m or "flagged missing" not in m[0]["reason"]:
+            fail(f"plot {rows[flagged]['plot']} flagged missing: expected a missing plot naming the flag, got {m}")
+        print(f"ok: plot {rows[flagged]['plot']} flagged missing is a missing plot: {m[0]['reason']}")
 
     # The same plots for R, with the design's columns and the factor levels of each treatment label.
     factors = spec.get("factors", [])
