@@ -1,5 +1,6 @@
 // CSV exports of a trial database (store.hpp): long-format observations and the plot layout (with the
-// text each plot's tag carries, so a list can be checked against scanned tags).
+// text each plot's tag carries, so a list can be checked against scanned tags). The observations are the
+// resolved values (storage/sync_conflicts.hpp): one per plot and trait, plot/traits in conflict left out.
 // RFC 4180 records through csv_record; one header line naming the columns; CRLF line ends.
 // Coordinates are written with 3 decimals (millimetres), enough for tape or RTK staking (DOMAIN: RTK
 // GNSS is good to 2-3 cm, common practice).
@@ -9,13 +10,14 @@
 #include "core/tags/payload.hpp"
 #include "storage/csv_table.hpp"
 #include "storage/store.hpp"
+#include "storage/sync_conflicts.hpp"
 
 namespace pw {
 
 std::string export_observations_csv(const Store& store) {
     std::string out = csv_record(
         {"plot", "block", "treatment", "trait", "value", "unit", "recorded_utc", "device", "observer"});
-    for (const ObservationRow& row : store.current_observations()) {
+    for (const ObservationRow& row : resolved_observations(store).rows) {
         const NewObservation& o = row.record.obs;
         out += csv_record({std::to_string(o.plot), std::to_string(row.block), row.treatment, o.trait, o.value,
                            row.unit, o.recorded_utc, o.device, o.observer});

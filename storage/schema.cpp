@@ -217,11 +217,173 @@ BEGIN
 END;
 )sql";
 
+// Migration 5: station sync (docs/sync.md, docs/station.md). Additions only: no existing row changes.
+//   sync_identity       on a handheld's database: who it is and which station trial it belongs to (one row)
+//   sync_device         on the station: every handheld it provisioned
+//   sync_bundle         every bundle written or imported, on both sides: (maker, device, seq) once
+//   sync_observation,   rows that crossed between databases under their origin key (origin, origin_id):
+//   sync_plot_event     on a handheld what it exported, on the station what it received. Bundles are SQLite
+//                       changesets of these two tables, so both sides have them with the same columns
+//   observation_origin, which received row a local observation or plot event is (the same observation
+//   plot_event_origin   arriving twice is recognised by its origin key)
+//   observation_resolves  a station resolution and each observation it supersedes (a resolution supersedes
+//                       every conflicting value, which one `supersedes` column cannot say)
+//   audit_log           hash-chained log of imports, exports, provisioning, resolutions and corrections
+// current_observation is re-created so that a resolved observation is no longer current, and
+// observation_conflict names every plot and trait with more than one distinct value in force.
+// Every new table is append-only (BEFORE UPDATE / DELETE triggers), like the observations.
+#define PW_UTC_CHECK(col)                                                                        \
+    "CHECK (" col " GLOB '[0-9][0-9][0-9][0-9]-[0-9][0-9]-[0-9][0-9]T[0-9][0-9]:[0-9][0-9]:[0-9][0-9]*Z'" \
+    " AND julianday(" col ") IS NOT NULL)"
+#define PW_HEX64_CHECK(col) "CHECK (length(" col ") = 64 AND " col " NOT GLOB '*[^0-9a-f]*')"
+#define PW_DEVICE_CHECK(col)                                                                              \
+    "CHECK (length(" col ") BETWEEN 1 AND 32 AND " col " NOT GLOB '*[^A-Za-z0-9._-]*' AND " col           \
+    " NOT GLOB '[.-]*' AND lower(" col ") <> 'station')"
+#define PW_APPEND_ONLY(table, what)                                                                       \
+    "CREATE TRIGGER " table "_no_update BEFORE UPDATE ON " table                                           \
+    " BEGIN SELECT RAISE(ABORT, '" what "'); END;\n"                                                          \
+    "CREATE TRIGGER " table "_no_delete BEFORE DELETE ON " table                                           \
+    " BEGIN SELECT RAISE(ABORT, '" what "'); END;\n"
+
+constexpr const char* kMigration5 = R"sql(
+CREATE TABLE sync_identity (
+    id              INTEGER PRIMARY KEY CHECK (id = 1),
+    device          TEXT NOT NULL )sql" PW_DEVICE_CHECK("device") R"sql(,
+    trial_digest    TEXT NOT NULL )sql" PW_HEX64_CHECK("trial_digest") R"sql(,
+    blind           INTEGER NOT NULL CHECK (blind IN (0, 1)),
+    provisioned_utc TEXT NOT NULL )sql" PW_UTC_CHECK("provisioned_utc") R"sql(
+) STRICT;
+
+CREATE TABLE sync_device (
+    name            TEXT PRIMARY KEY )sql" PW_DEVICE_CHECK("name") R"sql(,
+    provisioned_utc TEXT NOT NULL )sql" PW_UTC_CHECK("provisioned_utc") R"sql(,
+    blind           INTEGER NOT NULL CHECK (blind IN (0, 1)),
+    file            TEXT NOT NULL
+) STRICT, WITHOUT ROWID;
+
+CREATE TABLE sync_bundle (
+    maker           TEXT NOT NULL CHECK (maker IN ('device', 'station')),
+    device          TEXT NOT NULL )sql" PW_DEVICE_CHECK("device") R"sql(,
+    seq             INTEGER NOT NULL CHECK (seq >= 1),
+    sha256          TEXT NOT NULL )sql" PW_HEX64_CHECK("sha256") R"sql(,
+    created_utc     TEXT NOT NULL )sql" PW_UTC_CHECK("created_utc") R"sql(,
+    applied_utc     TEXT NOT NULL )sql" PW_UTC_CHECK("applied_utc") R"sql(,
+    observations    INTEGER NOT NULL CHECK (observations >= 0),
+    events          INTEGER NOT NULL CHECK (events >= 0),
+    PRIMARY KEY (maker, device, seq)
+) STRICT, WITHOUT ROWID;
+
+CREATE TABLE sync_observation (
+    origin          TEXT NOT NULL CHECK (origin <> ''),
+    origin_id       INTEGER NOT NULL CHECK (origin_id >= 1),
+    plot            INTEGER NOT NULL REFERENCES plot (id),
+    trait           TEXT NOT NULL REFERENCES trait (name),
+    value           TEXT NOT NULL,
+    number          REAL,
+    recorded_utc    TEXT NOT NULL )sql" PW_UTC_CHECK("recorded_utc") R"sql(,
+    device          TEXT NOT NULL,
+    observer        TEXT NOT NULL,
+    supersedes      INTEGER CHECK (supersedes IS NULL OR supersedes < origin_id),
+    note            TEXT NOT NULL,
+    CHECK (supersedes IS NULL OR note <> ''),
+    CHECK (value <> '' OR (supersedes IS NOT NULL AND number IS NULL)),
+    PRIMARY KEY (origin, origin_id)
+) STRICT;
+
+CREATE TABLE sync_plot_event (
+    origin          TEXT NOT NULL CHECK (origin <> ''),
+    origin_id       INTEGER NOT NULL CHECK (origin_id >= 1),
+    plot            INTEGER NOT NULL REFERENCES plot (id),
+    state           TEXT NOT NULL CHECK (state IN ('normal', 'damaged', 'missing')),
+    reason          TEXT NOT NULL,
+    recorded_utc    TEXT NOT NULL )sql" PW_UTC_CHECK("recorded_utc") R"sql(,
+    device          TEXT NOT NULL,
+    observer        TEXT NOT NULL,
+    flag            TEXT NOT NULL,
+    PRIMARY KEY (origin, origin_id)
+) STRICT;
+
+CREATE TABLE observation_origin (
+    observation     INTEGER PRIMARY KEY REFERENCES observation (id),
+    origin          TEXT NOT NULL,
+    origin_id       INTEGER NOT NULL,
+    UNIQUE (origin, origin_id),
+    FOREIGN KEY (origin, origin_id) REFERENCES sync_observation (origin, origin_id)
+) STRICT;
+
+CREATE TABLE plot_event_origin (
+    event           INTEGER PRIMARY KEY REFERENCES plot_event (id),
+    origin          TEXT NOT NULL,
+    origin_id       INTEGER NOT NULL,
+    UNIQUE (origin, origin_id),
+    FOREIGN KEY (origin, origin_id) REFERENCES sync_plot_event (origin, origin_id)
+) STRICT;
+
+CREATE TABLE observation_resolves (
+    resolution      INTEGER NOT NULL REFERENCES observation (id),
+    resolved        INTEGER NOT NULL REFERENCES observation (id),
+    PRIMARY KEY (resolution, resolved),
+    CHECK (resolved < resolution)
+) STRICT, WITHOUT ROWID;
+CREATE INDEX observation_resolves_by_resolved ON observation_resolves (resolved);
+
+-- A resolution supersedes observations of its own plot and trait only.
+CREATE TRIGGER observation_resolves_same_plot_trait
+BEFORE INSERT ON observation_resolves
+WHEN NOT EXISTS (
+    SELECT 1 FROM observation AS r JOIN observation AS o ON o.plot = r.plot AND o.trait = r.trait
+    WHERE r.id = NEW.resolution AND o.id = NEW.resolved)
+BEGIN
+    SELECT RAISE(ABORT, 'a resolution must supersede observations of its own plot and trait');
+END;
+
+CREATE TABLE audit_log (
+    id              INTEGER PRIMARY KEY CHECK (id >= 1),
+    recorded_utc    TEXT NOT NULL )sql" PW_UTC_CHECK("recorded_utc") R"sql(,
+    action          TEXT NOT NULL CHECK (action IN ('provision', 'import', 'export', 'resolve', 'correct')),
+    detail          TEXT NOT NULL CHECK (json_valid(detail) AND json_type(detail) = 'object'),
+    prev_sha256     TEXT NOT NULL )sql" PW_HEX64_CHECK("prev_sha256") R"sql(,
+    sha256          TEXT NOT NULL )sql" PW_HEX64_CHECK("sha256") R"sql(
+) STRICT;
+
+)sql" PW_APPEND_ONLY("sync_identity", "the device identity is fixed once provisioned")
+      PW_APPEND_ONLY("sync_device", "provisioned devices are append-only")
+      PW_APPEND_ONLY("sync_bundle", "sync bundle records are append-only")
+      PW_APPEND_ONLY("sync_observation", "synced observations are append-only")
+      PW_APPEND_ONLY("sync_plot_event", "synced plot events are append-only")
+      PW_APPEND_ONLY("observation_origin", "observation origins are append-only")
+      PW_APPEND_ONLY("plot_event_origin", "plot event origins are append-only")
+      PW_APPEND_ONLY("observation_resolves", "resolutions are append-only")
+      PW_APPEND_ONLY("audit_log", "audit log entries are append-only") R"sql(
+-- Current observations: those no later row supersedes, and no resolution supersedes.
+DROP VIEW current_observation;
+CREATE VIEW current_observation AS
+SELECT o.* FROM observation AS o
+WHERE NOT EXISTS (SELECT 1 FROM observation AS c WHERE c.supersedes = o.id)
+  AND NOT EXISTS (SELECT 1 FROM observation_resolves AS r WHERE r.resolved = o.id);
+
+-- Plots and traits in conflict: more than one distinct value in force (withdrawals and plots flagged as
+-- missing left out, as for the values in force of Store::current_observations).
+CREATE VIEW observation_conflict AS
+SELECT o.plot AS plot, o.trait AS trait, count(*) AS observations, count(DISTINCT o.value) AS distinct_values
+FROM current_observation AS o
+WHERE o.value <> ''
+  AND NOT EXISTS (SELECT 1 FROM plot_event AS e WHERE e.plot = o.plot AND e.state = 'missing')
+GROUP BY o.plot, o.trait
+HAVING count(DISTINCT o.value) > 1;
+)sql";
+
+#undef PW_UTC_CHECK
+#undef PW_HEX64_CHECK
+#undef PW_DEVICE_CHECK
+#undef PW_APPEND_ONLY
+
 constexpr Migration kMigrations[] = {
     {1, kMigration1},
     {2, kMigration2},
     {3, kMigration3},
     {4, kMigration4},
+    {5, kMigration5},
 };
 
 }  // namespace

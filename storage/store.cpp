@@ -26,6 +26,7 @@
 #include <nlohmann/json.hpp>
 
 #include "core/error.hpp"
+#include "storage/audit_log.hpp"
 #include "storage/certificate.hpp"
 #include "storage/schema.hpp"
 #include "storage/sqlite_statement.hpp"
@@ -474,6 +475,13 @@ std::int64_t Store::add_observation(const NewObservation& obs) {
         throw StoreError(where + ": observation refused by the database: " + why);
     }
     const std::int64_t id = sqlite3_last_insert_rowid(db);
+    // A correction (or an undo) is logged in the hash-chained audit log with the row (docs/station.md).
+    if (obs.supersedes)
+        append_audit(db, obs.recorded_utc, "correct",
+                     nlohmann::json{{"observation", id}, {"supersedes", *obs.supersedes}, {"plot", obs.plot},
+                                    {"trait", obs.trait}, {"value", obs.value}, {"device", obs.device},
+                                    {"observer", obs.observer}, {"note", obs.note}}
+                         .dump());
     tx.commit();
     return id;
 }

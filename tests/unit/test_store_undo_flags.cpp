@@ -331,8 +331,9 @@ kind = "number"
     }
     REQUIRE(raw_rows(path, "PRAGMA user_version") == "3\n");
     Store s = Store::open(path);
-    CHECK(raw_rows(path, "PRAGMA user_version") == "4\n");
-    CHECK(store_schema_version() == 4);
+    // Every later migration is applied too (migration 5, station sync, adds tables only).
+    CHECK(raw_rows(path, "PRAGMA user_version") == std::to_string(store_schema_version()) + "\n");
+    CHECK(store_schema_version() >= 4);
     // The old rows are unchanged in the file and read with their state as their flag.
     CHECK(raw_rows(path, "SELECT plot, state, flag FROM plot_event ORDER BY id") == "101|damaged|\n102|missing|\n");
     const auto ev = s.plot_events();
