@@ -10,6 +10,7 @@
 #include "core/record/session.hpp"
 #include "firmware_app/app.hpp"
 #include "storage/store.hpp"
+#include "storage/sync.hpp"
 
 namespace pw::app {
 RecordingSession open_session(Store& store, const RecorderSetup& setup) {
@@ -60,11 +61,16 @@ void add_record_command(CLI::App& app) {
     auto* cmd = app.add_subcommand("record", "Record traits plot by plot: scan a tag or type its code, then "
                                              "answer each trait (lines from a terminal or a pipe)");
     cmd->add_option("--db", o->db, "Trial database")->required()->check(CLI::ExistingFile);
-    cmd->add_option("--device", o->device, "Name of this device, stored with every value");
+    auto* device = cmd->add_option("--device", o->device,
+                                   "Name of this device, stored with every value (default: the name a handheld was "
+                                   "provisioned with, else handheld)");
     cmd->add_option("--observer", o->observer, "Who records, stored with every value")->required();
     cmd->add_flag("--lines", o->lines, "Line mode even on a terminal (the full screen is the default there)");
-    cmd->callback([o] {
+    cmd->callback([o, device] {
         Store store = Store::open(o->db);
+        // A provisioned handheld records under its own name unless told otherwise (docs/station.md).
+        if (device->count() == 0)
+            if (auto id = device_identity(store)) o->device = id->device;
         bool tty = isatty(STDIN_FILENO) != 0;
         RecorderSetup setup{o->device, o->observer, now_utc_iso, tty};
         if (tty && isatty(STDOUT_FILENO) && !o->lines) {
