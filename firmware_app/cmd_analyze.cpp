@@ -14,6 +14,7 @@
 #include "core/stats/analysis.hpp"
 #include "core/stats/decimal_shift.hpp"
 #include "firmware_app/app.hpp"
+#include "firmware_app/trait_analysis.hpp"
 #include "storage/csv_table.hpp"
 #include "storage/store.hpp"
 
@@ -457,6 +458,19 @@ std::string analyze_trait(const Store& store, const std::string& trait, bool jso
     Subject s;
     const AnalysisResult r = analyze_trial(from_store(store, trait, s));
     return json ? render_json(s, r) : render_text(s, r);
+}
+
+TraitAnalysis analyze_trait_result(const Store& store, const std::string& trait) {
+    Subject s;
+    TraitAnalysis t;
+    t.result = analyze_trial(from_store(store, trait, s));
+    t.unit = s.unit;
+    t.missing_why = s.missing_why;
+    for (const auto& n : t.result.notes) {
+        if (n.find("is missing; the model predicts") == std::string::npos) t.notes.push_back(n);
+    }
+    t.notes.insert(t.notes.end(), s.notes.begin(), s.notes.end());
+    return t;
 }
 
 void add_analyze_command(CLI::App& app) {
