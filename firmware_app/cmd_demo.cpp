@@ -1,7 +1,8 @@
 // `plotwright demo`: one complete, invented field day through the real commands' code.
 //
 // design (layouts/demo.toml) -> tags -> a simulated technician types into the line recorder (the same
-// run_line_recorder a person uses, including mistakes the recorder must refuse) -> CSV exports -> analysis.
+// run_line_recorder a person uses, including mistakes the recorder must refuse) -> CSV exports -> analysis
+// -> the trial report (report.html).
 // The recorded values are INVENTED: drawn from a seeded model (treatment effects, a gradient across the
 // blocks, plot noise) so that the demo is the same on every run and every machine.
 #include <CLI/CLI.hpp>
@@ -19,6 +20,7 @@
 #include "core/spec/trial_spec.hpp"
 #include "core/tags/payload.hpp"
 #include "firmware_app/app.hpp"
+#include "firmware_app/report_command.hpp"
 #include "storage/store.hpp"
 
 namespace pw::app {
@@ -135,7 +137,7 @@ void run_demo(const std::string& spec_path, const std::string& out_dir) {
     if (ec) throw Error(fmt::format("{}: cannot create the folder: {}", out_dir, ec.message()));
     const std::string db = (fs::path(out_dir) / "demo-trial.db").string();
     remove_previous(out_dir, {"demo-trial.db", "demo-trial.db-wal", "demo-trial.db-shm", "tags", "plots.csv",
-                              "observations.csv", "field-day.txt", "analysis.txt"});
+                              "observations.csv", "field-day.txt", "analysis.txt", "report.html"});
     std::vector<std::string> written;
 
     std::cout << "plotwright demo: an invented field day (every value below is invented)\n\n";
@@ -194,6 +196,16 @@ void run_demo(const std::string& spec_path, const std::string& out_dir) {
         std::cout << report << "\n";
         written.push_back(analysis_file);
     }
+    {
+        // The station manager's trial report: every numeric trait's maps, means, ANOVA and checks in one page.
+        Store store = Store::open(db);
+        const std::string report_file = (fs::path(out_dir) / "report.html").string();
+        write_file(report_file, trial_report_html(store, false, now_utc_iso()));
+        std::cout << fmt::format("6. report   report.html: maps, means, ANOVA and data checks of every numeric trait "
+                                 "(plotwright report --db {} --out report.html)\n\n",
+                                 db);
+        written.push_back(report_file);
+    }
     std::cout << "files written:\n";
     for (const auto& f : written) std::cout << "  " << f << "\n";
 }
@@ -204,7 +216,7 @@ void add_demo_command(CLI::App& app) {
     auto spec = std::make_shared<std::string>(default_layouts_dir() + "/demo.toml");
     auto out = std::make_shared<std::string>("demo-out");
     auto* cmd = app.add_subcommand("demo", "Run an invented field day end to end: design, tags, recording, "
-                                           "export, analysis");
+                                           "export, analysis, report");
     cmd->add_option("--spec", *spec, "Trial specification to use")->check(CLI::ExistingFile);
     cmd->add_option("--out", *out, "Folder for everything the demo writes");
     cmd->callback([spec, out] { run_demo(*spec, *out); });
