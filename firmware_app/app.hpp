@@ -28,6 +28,12 @@ void add_plan_command(CLI::App& app);     // plan: replicates needed, power (cor
 void add_verify_command(CLI::App& app);   // verify: the randomization certificate (docs/certificate.md)
 void add_map_command(CLI::App& app);      // map: the field drawn to scale (docs/agronomist.md)
 void add_stakeout_command(CLI::App& app); // stakeout: plot corners by tape and GNSS (docs/agronomist.md)
+void add_device_command(CLI::App& app);    // device add|list: provisioning handhelds (docs/station.md)
+void add_sync_command(CLI::App& app);      // sync export|import: bundles between handhelds and station (docs/sync.md)
+void add_conflicts_command(CLI::App& app); // conflicts: values that disagree after sync (docs/station.md)
+void add_resolve_command(CLI::App& app);   // resolve: settle one conflict with a value and a reason
+void add_audit_command(CLI::App& app);     // audit: verify the audit log's hash chain
+void add_report_command(CLI::App& app);   // report: the trial report, one HTML file (docs/report.md)
 
 }  // namespace pw::app
 namespace pw {

@@ -21,6 +21,12 @@ int main(int argc, char** argv) {
     pw::app::add_verify_command(app);
     pw::app::add_map_command(app);
     pw::app::add_stakeout_command(app);
+    pw::app::add_device_command(app);
+    pw::app::add_sync_command(app);
+    pw::app::add_conflicts_command(app);
+    pw::app::add_resolve_command(app);
+    pw::app::add_audit_command(app);
+    pw::app::add_report_command(app);
     pw::app::add_demo_command(app);
     try {
         app.parse(argc, argv);
