@@ -208,6 +208,75 @@ std::size_t apply_payload(sqlite3* db, const std::string& payload, const std::st
     return ctx.duplicates;
 }
 
+// The framing of a changeset as this program writes them, checked byte by byte before SQLite's iterator
+// sees the payload: SQLite 3.40.1's sqlite3changeset_next does not return on some malformed inputs (found by
+// tests/fuzz/fuzz_bundle.cpp; the input is in its corpus). Format: the "changeset format" comment of
+// sqlite3session.h / ext/session/sqlite3session.c: a table header 'T', varint column count, one primary-key
+// flag byte per column (its 1-based place in the key, 0 when not in it), the NUL-terminated table name;
+// then records: the operation (here SQLITE_INSERT = 18 only), an "indirect" byte, and one value per column:
+// type 1 (integer) or 2 (real) with 8 bytes, 3 (text) or 4 (blob) with a varint length and the bytes, 5
+// (NULL). Returns "" when the framing holds, else why not.
+std::string changeset_framing_fault(std::string_view p) {
+    std::size_t i = 0;
+    auto varint = [&](std::uint64_t& v) {  // SQLite's varint: 1 to 9 bytes, big-endian 7-bit groups
+        v = 0;
+        for (int k = 0; k < 9; ++k) {
+            if (i >= p.size()) return false;
+            const auto b = static_cast<unsigned char>(p[i++]);
+            if (k == 8) {
+                v = (v << 8) | b;
+                return true;
+            }
+            v = (v << 7) | (b & 0x7f);
+            if (!(b & 0x80)) return true;
+        }
+        return true;
+    };
+    int ncol = 0;
+    while (i < p.size()) {
+        const char op = p[i++];
+        if (op == 'T') {
+            std::uint64_t n = 0;
+            if (!varint(n) || (n != std::uint64_t{kObservationColumns} && n != std::uint64_t{kEventColumns})) return "has a table of an unknown shape";
+            ncol = static_cast<int>(n);
+            if (p.size() - i < n) return "ends inside a table header";
+            for (int c = 0; c < ncol; ++c)
+                if (p[i + static_cast<std::size_t>(c)] != (c < 2 ? c + 1 : 0)) return "keys a table otherwise than by (origin, origin_id)";
+            i += n;
+            const std::size_t end = p.find('\0', i);
+            if (end == std::string_view::npos) return "ends inside a table name";
+            const std::string_view name = p.substr(i, end - i);
+            if (!((name == "sync_observation" && ncol == kObservationColumns) ||
+                  (name == "sync_plot_event" && ncol == kEventColumns)))
+                return "names a table a bundle never changes";
+            i = end + 1;
+            continue;
+        }
+        if (ncol == 0) return "is not an SQLite changeset (no table header first)";
+        if (op != SQLITE_INSERT) return "updates or deletes rows (bundles only add rows)";
+        if (i >= p.size() || static_cast<unsigned char>(p[i]) > 1) return "is damaged (bad record flag)";
+        ++i;
+        for (int c = 0; c < ncol; ++c) {
+            if (i >= p.size()) return "ends inside a row";
+            const int type = p[i++];
+            std::uint64_t n = 0;
+            switch (type) {
+                case 1:
+                case 2: n = 8; break;
+                case 3:
+                case 4:
+                    if (!varint(n)) return "ends inside a row";
+                    break;
+                case 5: break;
+                default: return "is damaged (unknown value type)";
+            }
+            if (p.size() - i < n) return "ends inside a value";
+            i += static_cast<std::size_t>(n);
+        }
+    }
+    return "";
+}
+
 // ---- making received rows current ---------------------------------------------------------------------
 
 struct Materialized {
@@ -552,6 +621,7 @@ PayloadSummary check_bundle_payload(const Bundle& bundle, const std::string& sou
     auto refuse = [&](const std::string& why) {
         throw BundleError(BundleFault::BadField, source + ": refused, nothing imported: the payload " + why);
     };
+    if (const std::string why = changeset_framing_fault(bundle.payload); !why.empty()) refuse(why);
     sqlite3_changeset_iter* it = nullptr;
     if (sqlite3changeset_start(&it, static_cast<int>(bundle.payload.size()),
                                const_cast<char*>(bundle.payload.data())) != SQLITE_OK)
