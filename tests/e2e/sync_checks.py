@@ -1,0 +1,381 @@
+#!/usr/bin/python3
+"""End-to-end checks of station sync (docs/station.md, docs/sync.md), one case per ctest entry.
+
+Usage: sync_checks.py CASE PLOTWRIGHT WORKDIR
+
+Outside tools: the sqlite3 shell (Debian package sqlite3) reads the databases behind plotwright's back
+(`.dump` of the logical tables, PRAGMA integrity_check) and edits the audit log; coreutils sha256sum proves a
+refused bundle left the station file byte for byte as it was; Python's csv module (RFC 4180) and json module
+(RFC 8259) read the exports; hashlib (FIPS 180-4) and struct check a bundle against the byte layout written in
+docs/sync.md.
+
+Cases:
+  orders    three handhelds record overlapping plots (the same plot on two of them with different values and
+            with equal values, a correction in a later bundle); their bundles are imported into four copies of
+            the station in four orders, one of them twice over: every copy ends with the same observations
+            (by origin), the same conflicts and an intact audit log; integrity_check ok after every import
+  faults    a truncated bundle, one flipped byte, a bundle of another trial, a bundle of a device the station
+            never provisioned: each refused (exit 1) with its own message naming the file, the station's
+            sha256sum unchanged
+  format    a bundle read with struct + hashlib by the layout of docs/sync.md
+  exports   csv, csv-long, csv-wide and json read by the csv and json modules; units in the wide header;
+            the unresolved conflict left out and counted (stderr note, JSON field); after `resolve` it is in
+  audit     `audit` passes, then an entry edited with the sqlite3 shell makes it fail at that entry (exit 1)
+  blind     a blind trial's handheld file holds no treatment label; it records and exports with codes
+"""
+import csv
+import hashlib
+import io
+import json
+import pathlib
+import shutil
+import struct
+import subprocess
+import sys
+
+ROOT = pathlib.Path(__file__).resolve().parents[2]
+DEMO_SPEC = ROOT / "layouts" / "demo.toml"
+SEED = 4242
+TRAITS = 7  # traits of the demo spec, in order: grain_kg, moisture_pct, height_cm, stand, lodging, flowering, note
+
+
+def fail(msg):
+    print("FAIL: " + msg)
+    sys.exit(1)
+
+
+def run(args, expect=0, stdin=None):
+    p = subprocess.run([str(a) for a in args], capture_output=True, input=stdin)
+    if expect is not None and p.returncode != expect:
+        fail(f"{' '.join(map(str, args))} exited {p.returncode}, expected {expect}\n"
+             f"stdout:\n{p.stdout.decode(errors='replace')}\nstderr:\n{p.stderr.decode(errors='replace')}")
+    return p
+
+
+def tool(name, package):
+    path = shutil.which(name)
+    if not path:
+        fail(f"{name} (Debian package {package}) is needed for this check")
+    return path
+
+
+def sqlite(db, sql):
+    return run([tool("sqlite3", "sqlite3"), db, sql]).stdout.decode()
+
+
+def sha256sum(path):
+    return run([tool("sha256sum", "coreutils"), path]).stdout.decode().split()[0]
+
+
+def integrity_ok(db):
+    out = sqlite(db, "PRAGMA integrity_check;").strip()
+    if out != "ok":
+        fail(f"{db}: PRAGMA integrity_check says {out!r}")
+
+
+class Trial:
+    """A station database of the demo spec with its tags (from `plotwright plots`, read with csv)."""
+
+    def __init__(self, exe, work, spec=DEMO_SPEC, seed=SEED, name="station.db"):
+        self.exe = exe
+        self.work = work
+        self.db = work / name
+        run([exe, "design", spec, "--db", self.db, "--seed", seed])
+        plots = run([exe, "plots", "--db", self.db, "--format", "csv"]).stdout.decode()
+        self.tags = {int(r["plot"]): r["tag"] for r in csv.DictReader(io.StringIO(plots))}
+
+    def device(self, name, db=None):
+        path = self.work / (db or f"{name}.db")
+        run([self.exe, "device", "add", "--db", self.db, "--name", name, "--out", path])
+        return path
+
+    def record(self, device_db, observer, plots):
+        """plots: list of (plot, [values of the first traits]) ; the rest of the traits left empty."""
+        lines = []
+        for plot, values in plots:
+            lines.append(self.tags[plot])
+            lines += values + [""] * (TRAITS - len(values))
+        run([self.exe, "record", "--db", device_db, "--observer", observer, "--lines"],
+            stdin=("\n".join(lines) + "\n").encode())
+
+    def export(self, device_db, out):
+        run([self.exe, "sync", "export", "--db", device_db, "--out", out])
+        return out
+
+
+def logical_dump(db):
+    """The logical content, through the sqlite3 shell: observations by origin (station ids depend on arrival
+    order, origins do not), what each supersedes by origin, the plot events by origin, the conflicts."""
+    canon = (
+        "SELECT coalesce(x.origin,'station'), coalesce(x.origin_id,o.id), o.plot, o.trait, o.value, "
+        "quote(o.number), o.recorded_utc, o.device, o.observer, coalesce(sx.origin||'#'||sx.origin_id, o.supersedes, '-'), o.note "
+        "FROM observation o LEFT JOIN observation_origin x ON x.observation=o.id "
+        "LEFT JOIN observation_origin sx ON sx.observation=o.supersedes ORDER BY 1,2;"
+        "SELECT '--events';"
+        "SELECT coalesce(x.origin,'station'), coalesce(x.origin_id,e.id), e.plot, e.state, e.flag, e.reason "
+        "FROM plot_event e LEFT JOIN plot_event_origin x ON x.event=e.id ORDER BY 1,2;"
+        "SELECT '--received';"
+        "SELECT * FROM sync_observation ORDER BY origin, origin_id;"
+        "SELECT '--conflicts';"
+        "SELECT * FROM observation_conflict ORDER BY plot, trait;")
+    return sqlite(db, canon)
+
+
+def make_three_devices(exe, work):
+    t = Trial(exe, work)
+    devices = {n: t.device(n) for n in ("hh-1", "hh-2", "hh-3")}
+    # hh-1 and hh-2 both record plot 101 (grain differs, moisture equal) and 102 (all equal); hh-3 records
+    # 103 and 104, and 104 again later with another value (a re-visit in a second bundle: a correction).
+    t.record(devices["hh-1"], "A. Mwangi", [(101, ["4.77", "20.7"]), (102, ["5.10", "19.0"])])
+    t.record(devices["hh-2"], "B. Osei", [(101, ["4.87", "20.7"]), (102, ["5.10", "19.0"]), (201, ["6.00"])])
+    t.record(devices["hh-3"], "C. Ruiz", [(103, ["3.33"]), (104, ["4.44"])])
+    bundles = [t.export(devices["hh-1"], work / "hh-1.1.bundle"),
+               t.export(devices["hh-2"], work / "hh-2.1.bundle"),
+               t.export(devices["hh-3"], work / "hh-3.1.bundle")]
+    t.record(devices["hh-3"], "C. Ruiz", [(104, ["4.54"])])          # supersedes 4.44 on hh-3
+    t.record(devices["hh-1"], "A. Mwangi", [(202, ["7.00"])])
+    bundles += [t.export(devices["hh-3"], work / "hh-3.2.bundle"),
+                t.export(devices["hh-1"], work / "hh-1.2.bundle")]
+    return t, devices, bundles
+
+
+def case_orders(exe, work):
+    t, _, b = make_three_devices(exe, work)
+    orders = {
+        "forward": [b[0], b[1], b[2], b[3], b[4]],
+        "backward": [b[4], b[3], b[2], b[1], b[0]],
+        "mixed": [b[3], b[0], b[4], b[2], b[1]],
+        "twice": [b[1], b[3], b[0], b[1], b[2], b[4], b[3], b[0]],
+    }
+    dumps = {}
+    conflicts = {}
+    for name, order in orders.items():
+        db = work / f"station-{name}.db"
+        shutil.copy(t.db, db)
+        for bundle in order:
+            run([exe, "sync", "import", "--db", db, bundle])
+            integrity_ok(db)
+        # Once more, all at once: nothing changes the second time.
+        before = sha256sum(db)
+        run([exe, "sync", "import", "--db", db] + order)
+        if sha256sum(db) != before:
+            fail(f"{name}: importing the same bundles again changed the station file")
+        dumps[name] = logical_dump(db)
+        c = json.loads(run([exe, "conflicts", "--db", db, "--json"]).stdout)
+        for conflict in c["conflicts"]:
+            for v in conflict["values"]:
+                del v["observation"]  # station ids depend on the arrival order; origins do not
+        conflicts[name] = c
+        audit = json.loads(run([exe, "audit", "--db", db, "--json"]).stdout)
+        if not audit["ok"]:
+            fail(f"{name}: audit log broken: {audit['message']}")
+    first = dumps["forward"]
+    for name, d in dumps.items():
+        if d != first:
+            fail(f"order {name} gives another station than forward:\n{d}\n---\n{first}")
+        if conflicts[name] != conflicts["forward"]:
+            fail(f"order {name} gives other conflicts")
+    c = conflicts["forward"]
+    # Plot 101's grain differs between hh-1 and hh-2: the one conflict; its equal moisture and plot 102's
+    # equal values are none; hh-3's 104 was corrected on the device, so only the correction is current.
+    if [(x["plot"], x["trait"]) for x in c["conflicts"]] != [(101, "grain_kg")]:
+        fail(f"expected the one conflict plot 101 grain_kg, got {c['conflicts']}")
+    values = sorted((v["origin"], v["value"]) for v in c["conflicts"][0]["values"])
+    if values != [("hh-1", "4.77"), ("hh-2", "4.87")]:
+        fail(f"conflict values {values}")
+    rows = list(csv.DictReader(io.StringIO(run([exe, "export", "--db", work / "station-forward.db",
+                                                 "--format", "csv-long"]).stdout.decode())))
+    plot104 = [r["value"] for r in rows if r["plot"] == "104" and r["trait"] == "grain_kg"]
+    if plot104 != ["4.54"]:
+        fail(f"plot 104 grain_kg should be the correction 4.54 only, got {plot104}")
+    print(f"ok: {len(orders)} orders give the same {first.count(chr(10))} logical rows and the same conflicts")
+
+
+def case_faults(exe, work):
+    t = Trial(exe, work)
+    dev = t.device("hh-1")
+    t.record(dev, "A", [(101, ["4.77", "20.7"]), (102, ["5.00"])])
+    good = t.export(dev, work / "good.bundle")
+    data = good.read_bytes()
+    (work / "cut.bundle").write_bytes(data[: len(data) - 17])
+    flipped = bytearray(data)
+    flipped[len(data) // 2] ^= 0x40
+    (work / "flip.bundle").write_bytes(bytes(flipped))
+    # Another trial: the same spec under another code.
+    other_spec = work / "other.toml"
+    other_spec.write_text(DEMO_SPEC.read_text().replace('code = "SORG26"', 'code = "OTHR26"'))
+    (work / "other").mkdir()
+    other = Trial(exe, work / "other", spec=other_spec)
+    odev = other.device("hh-1")
+    other.record(odev, "A", [(101, ["1.00"])])
+    other.export(odev, work / "other.bundle")
+    # A device the station never provisioned: made from a copy of the station.
+    shutil.copy(t.db, work / "twin.db")
+    twin = work / "hh-x.db"
+    run([exe, "device", "add", "--db", work / "twin.db", "--name", "hh-x", "--out", twin])
+    t.record(twin, "X", [(101, ["9.99"])])
+    t.export(twin, work / "stranger.bundle")
+
+    before = sha256sum(t.db)
+    expected = {
+        "cut.bundle": "truncated sync bundle",
+        "flip.bundle": "corrupted sync bundle: checksum mismatch",
+        "other.bundle": "a bundle of trial OTHR26, but this database holds trial SORG26",
+        "stranger.bundle": "device 'hh-x' was never provisioned by this station",
+    }
+    for name, message in expected.items():
+        p = run([exe, "sync", "import", "--db", t.db, work / name], expect=1)
+        err = p.stderr.decode()
+        if str(work / name) not in err or message not in err:
+            fail(f"{name}: expected a message naming the file and saying {message!r}, got:\n{err}")
+        if sha256sum(t.db) != before:
+            fail(f"{name}: the station file changed although the bundle was refused")
+        integrity_ok(t.db)
+    # The messages are each their own.
+    if len(set(expected.values())) != len(expected):
+        fail("messages not distinct")
+    run([exe, "sync", "import", "--db", t.db, good])
+    if sha256sum(t.db) == before:
+        fail("the good bundle changed nothing")
+    print("ok: four bad bundles refused with their own messages, station unchanged (sha256sum)")
+
+
+def case_format(exe, work):
+    t = Trial(exe, work)
+    dev = t.device("hh-7")
+    t.record(dev, "A", [(101, ["4.77"])])
+    b = t.export(dev, work / "one.bundle").read_bytes()
+    # docs/sync.md, "Bundle format"
+    if b[:8] != b"PLWTSYNC":
+        fail("magic")
+    version, kind, clen = struct.unpack(">HBB", b[8:12])
+    pos = 12
+    code = b[pos:pos + clen].decode("ascii"); pos += clen
+    digest = b[pos:pos + 32].hex(); pos += 32
+    dlen = b[pos]; pos += 1
+    device = b[pos:pos + dlen].decode("ascii"); pos += dlen
+    (seq,) = struct.unpack(">Q", b[pos:pos + 8]); pos += 8
+    ulen = b[pos]; pos += 1
+    created = b[pos:pos + ulen].decode("ascii"); pos += ulen
+    (plen,) = struct.unpack(">Q", b[pos:pos + 8]); pos += 8
+    payload = b[pos:pos + plen]; pos += plen
+    checksum = b[pos:]
+    if (version, kind, code, device, seq) != (1, 1, "SORG26", "hh-7", 1):
+        fail(f"header fields {(version, kind, code, device, seq)}")
+    if len(checksum) != 32 or hashlib.sha256(b[:pos]).digest() != checksum:
+        fail("the trailing 32 bytes are not the SHA-256 of everything before them")
+    cert = sqlite(t.db, "SELECT sha256 FROM layout_certificate;").strip()
+    if digest != cert:
+        fail(f"the header's trial digest {digest} is not the station's layout certificate {cert}")
+    if not created.endswith("Z") or len(payload) == 0:
+        fail("creation time or payload")
+    print(f"ok: {len(b)} bytes read by the documented layout; checksum verified with hashlib")
+
+
+def case_exports(exe, work):
+    t, _, bundles = make_three_devices(exe, work)
+    run([exe, "sync", "import", "--db", t.db] + bundles)
+    for fmt_ in ("csv", "csv-long", "csv-wide"):
+        p = run([exe, "export", "--db", t.db, "--format", fmt_])
+        text = p.stdout.decode()
+        if "\r\n" not in text:
+            fail(f"{fmt_}: RFC 4180 records end in CRLF")
+        rows = list(csv.reader(io.StringIO(text, newline="")))
+        if any(len(r) != len(rows[0]) for r in rows):
+            fail(f"{fmt_}: ragged rows")
+        if "1 plot/trait(s) in conflict left out" not in p.stderr.decode():
+            fail(f"{fmt_}: no note of the unresolved conflict on stderr: {p.stderr.decode()!r}")
+        if fmt_ == "csv-wide":
+            header = rows[0]
+            for h in ("grain_kg [kg]", "moisture_pct [%]", "height_cm [cm]", "lodging"):
+                if h not in header:
+                    fail(f"csv-wide header lacks {h!r}: {header}")
+            by_plot = {r[0]: dict(zip(header, r)) for r in rows[1:]}
+            if len(by_plot) != 24:
+                fail("csv-wide: one row per plot expected (24)")
+            if by_plot["101"]["grain_kg [kg]"] != "" or by_plot["101"]["moisture_pct [%]"] != "20.7":
+                fail(f"csv-wide plot 101: conflict must be empty, equal moisture kept: {by_plot['101']}")
+        else:
+            keyed = [(r[0], r[3]) for r in rows[1:]]
+            if ("101", "grain_kg") in keyed:
+                fail(f"{fmt_}: the conflicting plot 101 grain_kg must be left out")
+            if len(keyed) != len(set(keyed)):
+                fail(f"{fmt_}: one row per plot and trait expected (equal values once)")
+    j = json.loads(run([exe, "export", "--db", t.db, "--format", "json"]).stdout)
+    if j["unresolved_conflicts"] != 1 or j["conflicts"] != [{"plot": 101, "trait": "grain_kg"}]:
+        fail(f"json conflict fields: {j['unresolved_conflicts']}, {j['conflicts']}")
+    if {x["name"]: x["unit"] for x in j["traits"]}["grain_kg"] != "kg":
+        fail("json trait units")
+    run([exe, "resolve", "--db", t.db, "--plot", 101, "--trait", "grain_kg", "--value", "4.8",
+         "--reason", "sample re-weighed"])
+    j = json.loads(run([exe, "export", "--db", t.db, "--format", "json"]).stdout)
+    got = [o["value"] for o in j["observations"] if o["plot"] == 101 and o["trait"] == "grain_kg"]
+    if j["unresolved_conflicts"] != 0 or got != ["4.80"]:
+        fail(f"after resolve: {j['unresolved_conflicts']} conflicts, plot 101 grain {got}")
+    integrity_ok(t.db)
+    print("ok: csv, csv-long, csv-wide read by the csv module; json by the json module; conflict out, then resolved")
+
+
+def case_audit(exe, work):
+    t, _, bundles = make_three_devices(exe, work)
+    run([exe, "sync", "import", "--db", t.db] + bundles)
+    j = json.loads(run([exe, "audit", "--db", t.db, "--json"]).stdout)
+    actions = [e["action"] for e in j["log"]]
+    if not j["ok"] or actions.count("import") != 5 or actions.count("provision") != 3:
+        fail(f"audit before the edit: ok={j['ok']}, actions {actions}")
+    # By hand with the sqlite3 shell: the append-only trigger refuses, so it is dropped first.
+    p = run([tool("sqlite3", "sqlite3"), t.db, "UPDATE audit_log SET detail = '{}' WHERE id = 4;"], expect=None)
+    if p.returncode == 0:
+        fail("the audit log accepted an UPDATE")
+    sqlite(t.db, "DROP TRIGGER audit_log_no_update; UPDATE audit_log SET detail = "
+                 "replace(detail, '\"observations\":4', '\"observations\":3') WHERE id = 4;")
+    p = run([exe, "audit", "--db", t.db], expect=1)
+    if "broken at entry 4" not in p.stderr.decode():
+        fail(f"audit should name entry 4: {p.stderr.decode()}")
+    j = json.loads(run([exe, "audit", "--db", t.db, "--json"], expect=1).stdout)
+    if j["first_broken"] != 4:
+        fail(f"first_broken {j['first_broken']}")
+    print("ok: audit intact, then an entry edited with the sqlite3 shell is named (exit 1)")
+
+
+def case_blind(exe, work):
+    spec = work / "blind.toml"
+    spec.write_text(DEMO_SPEC.read_text().replace("blind = false", "blind = true"))
+    t = Trial(exe, work, spec=spec)
+    dev = t.device("hh-b")
+    labels = [l.strip() for l in sqlite(t.db, "SELECT label FROM treatment;").splitlines()]
+    descriptions = [d.strip() for d in sqlite(t.db, "SELECT description FROM treatment;").splitlines() if d.strip()]
+    raw = dev.read_bytes()
+    for word in labels + descriptions:
+        if word.encode() in raw:
+            fail(f"the blind handheld's file holds {word!r}")
+    t.record(dev, "A", [(101, ["4.77"])])
+    rows = list(csv.DictReader(io.StringIO(run([exe, "export", "--db", dev, "--format", "csv-long"]).stdout.decode())))
+    if not rows or not rows[0]["treatment"].startswith("T0"):
+        fail(f"the handheld's export should show a neutral code: {rows}")
+    out = run([exe, "record", "--db", dev, "--observer", "A", "--lines"], stdin=(t.tags[102] + "\n/skip\n").encode())
+    text = out.stdout.decode()
+    if "(blind)" not in text or any(l in text for l in labels):
+        fail(f"the recorder on the blind handheld: {text}")
+    if sqlite(dev, "SELECT DISTINCT device FROM observation;").strip() != "hh-b":
+        fail("the recorder should store the provisioned name by default")
+    b = t.export(dev, work / "b.bundle")
+    run([exe, "sync", "import", "--db", t.db, b])
+    rows = list(csv.DictReader(io.StringIO(run([exe, "export", "--db", t.db, "--format", "csv-long"]).stdout.decode())))
+    if rows[0]["treatment"] not in labels:
+        fail("at the station the value is shown with the treatment's own label")
+    print(f"ok: no treatment label in the blind handheld's file ({len(labels)} labels checked)")
+
+
+CASES = {"orders": case_orders, "faults": case_faults, "format": case_format, "exports": case_exports,
+         "audit": case_audit, "blind": case_blind}
+
+if __name__ == "__main__":
+    if len(sys.argv) != 4 or sys.argv[1] not in CASES:
+        print(__doc__)
+        sys.exit(2)
+    work = pathlib.Path(sys.argv[3])
+    if work.exists():
+        shutil.rmtree(work)
+    work.mkdir(parents=True)
+    CASES[sys.argv[1]](pathlib.Path(sys.argv[2]), work)
