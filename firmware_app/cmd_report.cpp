@@ -12,6 +12,7 @@
 #include "firmware_app/trait_analysis.hpp"
 #include "storage/certificate.hpp"
 #include "storage/store.hpp"
+#include "storage/sync_conflicts.hpp"
 
 namespace pw::app {
 namespace {
@@ -31,8 +32,15 @@ std::string trial_report_html(const Store& store, bool blind, const std::string&
     in.layout = t.layout;
     in.created_utc = t.created_utc;
     if (auto cert = stored_certificate(store)) in.certificate_sha256 = cert->sha256;
-    for (const ObservationRow& row : store.current_observations()) in.observations.push_back(row.record);
+    // The values the analysis uses: one per plot and trait, sync conflicts left out and listed.
+    const ResolvedObservations resolved = resolved_observations(store);
+    for (const ObservationRow& row : resolved.rows) in.observations.push_back(row.record);
     in.events = store.plot_events();
+    for (const Conflict& c : resolved.conflicts) {
+        report::UnresolvedConflict u{c.plot, c.trait, {}};
+        for (const ConflictValue& v : c.values) u.values.push_back(v.record);
+        in.conflicts.push_back(std::move(u));
+    }
     in.generated_utc = now_utc;
     in.program = "plotwright " PW_APP_VERSION;
     in.blind = blind;

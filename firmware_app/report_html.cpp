@@ -651,6 +651,30 @@ std::string methods(const ReportInput& in) {
     return o;
 }
 
+// Unresolved sync conflicts: every value in force, with who recorded it and when, so that the station
+// manager can settle each one (`plotwright resolve`, docs/station.md).
+std::string conflicts_section(const ReportInput& in) {
+    std::string o = "<section id=\"conflicts\">\n<h2>Unresolved sync conflicts</h2>\n";
+    if (in.conflicts.empty()) {
+        o += "<p data-conflicts=\"0\">None: every plot and trait holds one value.</p>\n</section>\n";
+        return o;
+    }
+    o += fmt::format("<p data-conflicts=\"{}\"><strong>{} plot/trait{} with disagreeing values</strong> from the "
+                     "handhelds. They are left out of the analyses below until the station resolves them with "
+                     "<code>plotwright resolve</code>.</p>\n",
+                     in.conflicts.size(), in.conflicts.size(), in.conflicts.size() == 1 ? "" : "s");
+    o += "<div class=\"scroll\"><table class=\"conflicts\"><thead><tr><th>plot</th><th>trait</th><th>value</th>"
+         "<th>recorded (UTC)</th><th>by</th></tr></thead><tbody>\n";
+    for (const UnresolvedConflict& c : in.conflicts)
+        for (const ObservationRecord& v : c.values)
+            o += fmt::format("<tr data-plot=\"{}\" data-trait=\"{}\"><td>{}</td><td>{}</td><td>{}</td><td>{}</td>"
+                             "<td>{}</td></tr>\n",
+                             c.plot, esc(c.trait), c.plot, esc(c.trait), esc(v.obs.value), esc(v.obs.recorded_utc),
+                             esc(v.obs.observer + " · " + v.obs.device));
+    o += "</tbody></table></div>\n</section>\n";
+    return o;
+}
+
 }  // namespace
 
 std::optional<double> standardized_residual(const AnalysisResult& r, const PlotFit& p) {
@@ -681,12 +705,14 @@ std::string compose_report_html(const ReportInput& in) {
     } catch (const std::exception&) {
         have_model = false;  // a layout without plots: no map, the sections still say what there is
     }
-    o += "<nav><strong>Contents</strong><ul><li><a href=\"#trial\">The trial</a></li>";
+    o += "<nav><strong>Contents</strong><ul><li><a href=\"#trial\">The trial</a></li>"
+         "<li><a href=\"#conflicts\">Sync conflicts</a></li>";
     for (const TraitSection& s : in.traits)
         o += fmt::format("<li><a href=\"#trait-{}\">{}</a>{}</li>", esc(s.trait.name), esc(trait_title(s.trait)),
                          s.analysis ? "" : " (not analysed)");
     o += "<li><a href=\"#methods\">Methods</a></li></ul></nav>\n";
     o += facts(in, lab);
+    o += conflicts_section(in);
     for (const TraitSection& s : in.traits) o += trait_section(s, in, lab, have_model ? &model : nullptr);
     if (in.traits.empty()) o += "<p>The trial has no numeric trait to analyse.</p>\n";
     o += methods(in);

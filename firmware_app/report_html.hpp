@@ -129,6 +129,14 @@ struct TraitSection {
     std::vector<std::string> notes;
 };
 
+// A plot and trait whose values from different handhelds (or one handheld twice) disagree and that the
+// station has not resolved yet (storage/sync_conflicts.hpp): left out of the analysis until resolved.
+struct UnresolvedConflict {
+    int plot = 0;
+    std::string trait;
+    std::vector<ObservationRecord> values;   // oldest recorded first
+};
+
 struct ReportInput {
     TrialSpec spec;
     Layout layout;
@@ -136,6 +144,7 @@ struct ReportInput {
     std::optional<std::string> certificate_sha256;
     std::vector<ObservationRecord> observations;      // current values (every trait)
     std::vector<PlotEvent> events;                    // every flag, oldest first
+    std::vector<UnresolvedConflict> conflicts;        // unresolved sync conflicts, walking then trait order
     std::vector<TraitSection> traits;                 // numeric traits (number, count, score), spec order
     std::string generated_utc;                        // when the report was written
     std::string program;                              // "plotwright 0.1.0"

@@ -275,3 +275,37 @@ TEST_CASE("A trait that cannot be analysed is reported as such and the report go
     CHECK(html.size() > 1000);
     CHECK(html.substr(html.size() - 8) == "</html>\n");
 }
+
+TEST_CASE("Unresolved sync conflicts are listed with every disagreeing value, escaped", "[report][conflicts]") {
+    const Trial t = hostile_trial();
+    ReportInput in = input_of(t, false);
+    CHECK(compose_report_html(in).find("data-conflicts=\"0\"") != std::string::npos);
+
+    UnresolvedConflict c;
+    c.plot = t.layout.plots.front().id;
+    c.trait = t.spec.traits.front().name;
+    for (const char* device : {"handheld-1", "handheld-<2>"}) {
+        ObservationRecord r;
+        r.obs.plot = c.plot;
+        r.obs.trait = c.trait;
+        r.obs.value = device[9] == '1' ? "5.1" : "5.9";
+        r.obs.device = device;
+        r.obs.observer = "R. O'Neil";
+        r.obs.recorded_utc = "2026-07-01T09:00:00Z";
+        c.values.push_back(r);
+    }
+    in.conflicts.push_back(c);
+    const std::string html = compose_report_html(in);
+    CHECK(html.find("data-conflicts=\"1\"") != std::string::npos);
+    // One row per value in force; the trait's name is hostile too, so it appears escaped.
+    const std::string trait = html_escape(c.trait);
+    for (const char* value : {"5.1", "5.9"}) {
+        const std::string row = "<tr data-plot=\"" + std::to_string(c.plot) + "\" data-trait=\"" + trait +
+                                "\"><td>" + std::to_string(c.plot) + "</td><td>" + trait + "</td><td>" + value +
+                                "</td>";
+        CHECK(html.find(row) != std::string::npos);
+    }
+    // HTML Living Standard escaping: the device's angle brackets and the observer's quote are text.
+    CHECK(html.find("R. O&#39;Neil · handheld-&lt;2&gt;") != std::string::npos);
+    CHECK(html.find("handheld-<2>") == std::string::npos);
+}
