@@ -15,6 +15,7 @@
 #include "firmware_app/app.hpp"
 #include "storage/store.hpp"
 #include "storage/sync.hpp"
+#include "storage/sync_conflicts.hpp"
 
 namespace pw::app {
 namespace {
@@ -87,18 +88,18 @@ void add_sync_command(CLI::App& app) {
                                  {"events", r.events},
                                  {"duplicates", r.duplicates},
                                  {"pending", r.pending},
-                                 {"missing_seqs", r.missing_seqs},
-                                 {"unresolved_conflicts", r.conflicts_after}};
+                                 {"missing_seqs", r.missing_seqs}};
                 results.push_back(j);
                 if (o->json) continue;
+                const std::string which =
+                    r.header.kind == BundleKind::FromDevice
+                        ? fmt::format("bundle {} of {}", r.header.seq, r.header.device)
+                        : fmt::format("station bundle {} for {}", r.header.seq, r.header.device);
                 if (r.already_imported)
-                    std::cout << fmt::format("{}: bundle {} of {} was imported before: nothing changed\n", file,
-                                             r.header.seq, r.header.device);
+                    std::cout << fmt::format("{}: {} was imported before: nothing changed\n", file, which);
                 else
-                    std::cout << fmt::format("{}: bundle {} of {}: {} new observations, {} new plot events, {} already "
-                                             "held; {} unresolved conflicts\n",
-                                             file, r.header.seq, r.header.device, r.observations, r.events,
-                                             r.duplicates, r.conflicts_after);
+                    std::cout << fmt::format("{}: {}: {} new observations, {} new plot events, {} already held\n", file,
+                                             which, r.observations, r.events, r.duplicates);
                 if (r.pending > 0)
                     std::cerr << fmt::format("note: {} received corrections wait for the observations they correct "
                                              "(an earlier bundle not yet imported)\n",
@@ -112,7 +113,12 @@ void add_sync_command(CLI::App& app) {
                 std::cerr << "plotwright: sync import: " << e.what() << "\n";
             }
         }
-        if (o->json) std::cout << results.dump(2) << "\n";
+        const std::size_t unresolved = count_unresolved_conflicts(store);
+        if (o->json)
+            std::cout << nlohmann::json{{"bundles", results}, {"unresolved_conflicts", unresolved}}.dump(2) << "\n";
+        else
+            std::cout << fmt::format("{}: {} unresolved conflict(s){}\n", o->db, unresolved,
+                                     unresolved ? " (plotwright conflicts lists them)" : "");
         if (refused > 0) throw ExitStatus{1};
     });
 }

@@ -304,12 +304,11 @@ CREATE TABLE sync_plot_event (
 ) STRICT;
 
 CREATE TABLE observation_origin (
-    observation     INTEGER PRIMARY KEY REFERENCES observation (id),
     origin          TEXT NOT NULL,
     origin_id       INTEGER NOT NULL,
-    UNIQUE (origin, origin_id),
-    FOREIGN KEY (origin, origin_id) REFERENCES sync_observation (origin, origin_id)
-) STRICT;
+    observation     INTEGER NOT NULL REFERENCES observation (id),
+    PRIMARY KEY (origin, origin_id)
+) STRICT, WITHOUT ROWID;
 
 CREATE TABLE plot_event_origin (
     event           INTEGER PRIMARY KEY REFERENCES plot_event (id),

@@ -104,13 +104,6 @@ void record_bundle(sqlite3* db, const BundleHeader& h, const std::string& sha, c
     st.run();
 }
 
-std::int64_t count_rows(sqlite3* db, const char* sql_text, const std::string& key) {
-    Statement st(db, sql_text);
-    st.bind(1, key);
-    st.step();
-    return st.int64(0);
-}
-
 std::string device_list(const Store& station) {
     std::string s;
     for (const auto& d : provisioned_devices(station)) s += (s.empty() ? "" : ", ") + d.name;
@@ -149,7 +142,8 @@ std::string value_text(sqlite3_value* v) {
 
 struct ApplyContext {
     sqlite3* db = nullptr;
-    std::size_t duplicates = 0;
+    std::size_t duplicate_observations = 0;
+    std::size_t duplicate_events = 0;
     std::string error;
 };
 
@@ -169,7 +163,7 @@ int on_conflict(void* p, int type, sqlite3_changeset_iter* it) {
             same = same_value(mine, theirs);
         }
         if (same) {
-            ++ctx->duplicates;
+            ++(std::strcmp(table, "sync_observation") == 0 ? ctx->duplicate_observations : ctx->duplicate_events);
             return SQLITE_CHANGESET_OMIT;
         }
         sqlite3_value* origin = nullptr;
@@ -194,8 +188,9 @@ int on_conflict(void* p, int type, sqlite3_changeset_iter* it) {
     return SQLITE_CHANGESET_ABORT;
 }
 
-std::size_t apply_payload(sqlite3* db, const std::string& payload, const std::string& source) {
-    if (payload.empty()) return 0;
+// Returns the rows already held, identical: {observations, events}.
+std::pair<std::size_t, std::size_t> apply_payload(sqlite3* db, const std::string& payload, const std::string& source) {
+    if (payload.empty()) return {0, 0};
     ApplyContext ctx;
     ctx.db = db;
     const int rc = sqlite3changeset_apply(db, static_cast<int>(payload.size()), const_cast<char*>(payload.data()),
@@ -205,7 +200,7 @@ std::size_t apply_payload(sqlite3* db, const std::string& payload, const std::st
         throw InputError(source + ": refused, nothing imported: the payload could not be applied (" +
                          sqlite3_errmsg(db) + ")");
     }
-    return ctx.duplicates;
+    return {ctx.duplicate_observations, ctx.duplicate_events};
 }
 
 // The framing of a changeset as this program writes them, checked byte by byte before SQLite's iterator
@@ -284,74 +279,76 @@ struct Materialized {
     std::size_t pending = 0;
 };
 
-// Received observations not yet linked to an observation of this database become observations, in
-// origin then origin_id order, a correction only once what it corrects is here. A correction whose
-// target this database has already superseded by a row of its own is kept as a further current value (so
-// the two show as a conflict when they differ, and nothing is overwritten); a withdrawal of such a target
-// waits (it would take back a value this database replaced).
-Materialized materialize_observations(sqlite3* db, const std::string& self) {
-    struct Row {
-        std::string origin;
-        std::int64_t origin_id = 0;
-        int plot = 0;
-        std::string trait, value;
-        std::optional<double> number;
-        std::string recorded_utc, device, observer;
-        std::optional<std::int64_t> supersedes;
-        std::string note;
-        bool done = false;
-    };
-    std::vector<Row> rows;
-    {
-        Statement st(db,
-                     "SELECT s.origin, s.origin_id, s.plot, s.trait, s.value, s.number, s.recorded_utc, s.device, "
-                     "s.observer, s.supersedes, s.note FROM sync_observation AS s "
-                     "WHERE s.origin <> ?1 AND NOT EXISTS (SELECT 1 FROM observation_origin AS x "
-                     "WHERE x.origin = s.origin AND x.origin_id = s.origin_id) ORDER BY s.origin, s.origin_id");
-        st.bind(1, self);
-        while (st.step())
-            rows.push_back({st.text(0), st.int64(1), st.integer(2), st.text(3), st.text(4), st.opt_real(5), st.text(6),
-                            st.text(7), st.text(8), st.opt_int64(9), st.text(10)});
-    }
-    Statement target(db, "SELECT observation FROM observation_origin WHERE origin = ?1 AND origin_id = ?2");
-    Statement taken(db, "SELECT 1 FROM observation WHERE supersedes = ?1");
-    Statement ins(db,
-                  "INSERT INTO observation (plot, trait, value, number, recorded_utc, device, observer, supersedes, note) "
-                  "VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9)");
-    Statement link(db, "INSERT INTO observation_origin (observation, origin, origin_id) VALUES (?1, ?2, ?3)");
+// Received observations of `origin` not yet linked to an observation of this database become observations,
+// in origin_id order, a correction only once what it corrects is here (a correction always corrects an
+// observation of its own origin, so only that origin's rows can have become ready). A correction whose target
+// this database has already superseded by a row of its own is kept as a further current value (so the two
+// show as a conflict when they differ, and nothing is overwritten); a withdrawal of such a target waits (it
+// would take back a value this database replaced).
+//
+// Set-based, one pass per link of the longest chain of corrections among the new rows: the ready rows are
+// numbered in a temporary table, inserted with ids first, first + 1, ... and linked to their origins by the
+// same numbers.
+Materialized materialize_observations(sqlite3* db, const std::string& origin) {
+    sql::exec(db,
+              "CREATE TEMP TABLE IF NOT EXISTS pw_ready (seq INTEGER PRIMARY KEY, origin_id INTEGER NOT NULL, plot "
+              "INTEGER, trait TEXT, value TEXT, number REAL, recorded_utc TEXT, device TEXT, observer TEXT, note TEXT, "
+              "target INTEGER)",
+              "preparing received observations");
     Materialized m;
-    for (bool progress = true; progress;) {
-        progress = false;
-        for (Row& r : rows) {
-            if (r.done) continue;
-            std::optional<std::int64_t> supersedes;
-            if (r.supersedes) {
-                sqlite3_reset(target.get());
-                target.bind(1, r.origin).bind(2, *r.supersedes);
-                if (!target.step()) continue;  // the corrected observation has not arrived yet
-                const std::int64_t t = target.int64(0);
-                sqlite3_reset(taken.get());
-                taken.bind(1, t);
-                const bool already = taken.step();
-                if (!already)
-                    supersedes = t;
-                else if (r.value.empty())
-                    continue;  // a withdrawal of a value this database has replaced itself: waits
-            }
-            sqlite3_reset(ins.get());
-            ins.bind(1, r.plot).bind(2, r.trait).bind(3, r.value).bind(4, r.number).bind(5, r.recorded_utc)
-                .bind(6, r.device).bind(7, r.observer).bind(8, supersedes).bind(9, r.note);
-            ins.run();
-            const std::int64_t id = sqlite3_last_insert_rowid(db);
-            sqlite3_reset(link.get());
-            link.bind(1, id).bind(2, r.origin).bind(3, r.origin_id);
-            link.run();
-            r.done = true;
-            ++m.applied;
-            progress = true;
-        }
+    // Rows of this origin not linked yet: each pass links some; none left means no further pass.
+    std::int64_t unlinked = 0;
+    {
+        Statement total(db, "SELECT (SELECT count(*) FROM sync_observation WHERE origin = ?1) - "
+                            "(SELECT count(*) FROM observation_origin WHERE origin = ?1)");
+        total.bind(1, origin);
+        total.step();
+        unlinked = total.int64(0);
     }
-    for (const Row& r : rows) m.pending += r.done ? 0 : 1;
+    while (unlinked > 0) {
+        sql::exec(db, "DELETE FROM temp.pw_ready", "preparing received observations");
+        Statement ready(db,
+                        "INSERT INTO temp.pw_ready (origin_id, plot, trait, value, number, recorded_utc, device, observer, "
+                        "note, target) "
+                        "SELECT s.origin_id, s.plot, s.trait, s.value, s.number, s.recorded_utc, s.device, s.observer, s.note, "
+                        "CASE WHEN t.observation IS NULL THEN NULL "
+                        "WHEN EXISTS (SELECT 1 FROM observation AS c WHERE c.supersedes = t.observation) THEN NULL "
+                        "ELSE t.observation END "
+                        "FROM sync_observation AS s "
+                        "LEFT JOIN observation_origin AS t ON t.origin = s.origin AND t.origin_id = s.supersedes "
+                        "WHERE s.origin = ?1 "
+                        "AND NOT EXISTS (SELECT 1 FROM observation_origin AS x WHERE x.origin = s.origin AND "
+                        "x.origin_id = s.origin_id) "
+                        "AND (s.supersedes IS NULL OR t.observation IS NOT NULL) "
+                        "AND NOT (s.value = '' AND EXISTS (SELECT 1 FROM observation AS c WHERE c.supersedes = "
+                        "t.observation)) "
+                        "ORDER BY s.origin_id");
+        ready.bind(1, origin);
+        ready.run();
+        const auto n = static_cast<std::size_t>(sqlite3_changes(db));
+        if (n == 0) break;
+        std::int64_t first = 1;
+        {
+            Statement top(db, "SELECT coalesce(max(id), 0) + 1 FROM observation");
+            top.step();
+            first = top.int64(0);
+        }
+        Statement ins(db,
+                      "INSERT INTO observation (id, plot, trait, value, number, recorded_utc, device, observer, "
+                      "supersedes, note) SELECT ?1 + seq - 1, plot, trait, value, number, recorded_utc, device, observer, "
+                      "target, note FROM temp.pw_ready ORDER BY seq");
+        ins.bind(1, first);
+        ins.run();
+        Statement link(db,
+                       "INSERT INTO observation_origin (observation, origin, origin_id) "
+                       "SELECT ?1 + seq - 1, ?2, origin_id FROM temp.pw_ready ORDER BY seq");
+        link.bind(1, first).bind(2, origin);
+        link.run();
+        m.applied += n;
+        unlinked -= static_cast<std::int64_t>(n);
+    }
+    sql::exec(db, "DELETE FROM temp.pw_ready", "clearing received observations");
+    m.pending = static_cast<std::size_t>(unlinked);
     return m;
 }
 
@@ -716,29 +713,28 @@ ImportResult import_bundle(Store& store, std::string_view bytes, const std::stri
                     source, b.header.seq, b.header.device, seen.text(1), seen.text(0), b.checksum_hex));
             r.already_imported = true;
             r.missing_seqs = missing_seqs(db, maker, b.header.device);
-            r.conflicts_before = r.conflicts_after = unresolved_conflicts(store).size();
             return r;
         }
     }
     const PayloadSummary sum = check_bundle_payload(b, source);
 
     WriteTransaction tx(db);
-    r.conflicts_before = unresolved_conflicts(store).size();
-    const char* count_obs = "SELECT count(*) FROM sync_observation WHERE origin <> ?1";
-    const char* count_ev = "SELECT count(*) FROM sync_plot_event WHERE origin <> ?1";
-    const std::int64_t obs_before = count_rows(db, count_obs, self), ev_before = count_rows(db, count_ev, self);
-    r.duplicates = apply_payload(db, b.payload, source);
-    r.observations = static_cast<std::size_t>(count_rows(db, count_obs, self) - obs_before);
-    r.events = static_cast<std::size_t>(count_rows(db, count_ev, self) - ev_before);
-    if (r.observations + r.events + r.duplicates != sum.observations + sum.events)
-        throw InputError(fmt::format("{}: refused, nothing imported: {} rows in the payload, {} applied or already held",
-                                     source, sum.observations + sum.events, r.observations + r.events + r.duplicates));
-    const Materialized m = materialize_observations(db, self);
+    const int changes_before = sqlite3_total_changes(db);
+    const auto [dup_obs, dup_ev] = apply_payload(db, b.payload, source);
+    r.duplicates = dup_obs + dup_ev;
+    r.observations = sum.observations - dup_obs;
+    r.events = sum.events - dup_ev;
+    if (static_cast<std::size_t>(sqlite3_total_changes(db) - changes_before) != r.observations + r.events)
+        throw InputError(fmt::format("{}: refused, nothing imported: {} rows in the payload, {} applied and {} already held",
+                                     source, sum.observations + sum.events, sqlite3_total_changes(db) - changes_before,
+                                     r.duplicates));
+    // Only the bundle's own device's rows can have become ready (a handheld's bundle; the station's bundle
+    // carries plot events only).
+    const Materialized m = me ? Materialized{} : materialize_observations(db, b.header.device);
     r.applied = m.applied;
     r.pending = m.pending;
     materialize_events(db, self);
     record_bundle(db, b.header, b.checksum_hex, now_utc, r.observations, r.events);
-    r.conflicts_after = unresolved_conflicts(store).size();
     append_audit(db, now_utc, "import",
                  nlohmann::json{{"file", std::filesystem::path(source).filename().string()},
                                 {"maker", maker},
@@ -748,8 +744,7 @@ ImportResult import_bundle(Store& store, std::string_view bytes, const std::stri
                                 {"observations", r.observations},
                                 {"events", r.events},
                                 {"duplicates", r.duplicates},
-                                {"pending", r.pending},
-                                {"conflicts", r.conflicts_after}}
+                                {"pending", r.pending}}
                      .dump());
     tx.commit();
     r.missing_seqs = missing_seqs(db, maker, b.header.device);

@@ -91,8 +91,6 @@ struct ImportResult {
     std::size_t applied = 0;              // observations that became current data in this import
     std::size_t pending = 0;              // received observations still waiting for the one they correct
     std::vector<std::uint64_t> missing_seqs;   // bundles of this device not (yet) received
-    std::size_t conflicts_before = 0;
-    std::size_t conflicts_after = 0;
 };
 // Imports one bundle. Throws BundleError (bad file) or InputError (another trial, an unknown device, a
 // bundle meant for the other side, content that contradicts what was received) naming `source`; the

@@ -82,6 +82,12 @@ ResolvedObservations group(const Store& store) {
 
 std::vector<Conflict> unresolved_conflicts(const Store& store) { return group(store).conflicts; }
 
+std::size_t count_unresolved_conflicts(const Store& store) {
+    sql::Statement st(store.handle(), "SELECT count(*) FROM observation_conflict");
+    st.step();
+    return static_cast<std::size_t>(st.int64(0));
+}
+
 ResolvedObservations resolved_observations(const Store& store) { return group(store); }
 
 std::int64_t resolve_conflict(Store& store, const Resolution& r) {

@@ -34,6 +34,8 @@ struct Conflict {
 
 // In walking order, then trait order.
 std::vector<Conflict> unresolved_conflicts(const Store& store);
+// How many there are, counted in SQL by the view observation_conflict (same rule, no rows read out).
+std::size_t count_unresolved_conflicts(const Store& store);
 
 struct ResolvedObservations {
     std::vector<ObservationRow> rows;      // one per plot and trait, walking order then trait order

@@ -19,7 +19,8 @@ Cases:
             sha256sum unchanged
   format    a bundle read with struct + hashlib by the layout of docs/sync.md
   exports   csv, csv-long, csv-wide and json read by the csv and json modules; units in the wide header;
-            the unresolved conflict left out and counted (stderr note, JSON field); after `resolve` it is in
+            the unresolved conflict left out and counted (stderr note, JSON field), in the exports and in
+            `analyze`; after `resolve` it is in
   audit     `audit` passes, then an entry edited with the sqlite3 shell makes it fail at that entry (exit 1)
   blind     a blind trial's handheld file holds no treatment label; it records and exports with codes
 """
@@ -306,6 +307,17 @@ def case_exports(exe, work):
         fail(f"json conflict fields: {j['unresolved_conflicts']}, {j['conflicts']}")
     if {x["name"]: x["unit"] for x in j["traits"]}["grain_kg"] != "kg":
         fail("json trait units")
+    # analyze leaves the plot in conflict out (as a missing plot, saying why) and counts it; the other plots
+    # get a grain weight at the station so that every treatment has values.
+    others = [p for p in sorted(t.tags) if p not in (101, 102, 103, 104, 201, 202)]
+    t.record(t.db, "station", [(p, [f"{4 + (p % 7) * 0.31:.2f}"]) for p in others])
+    p = run([exe, "analyze", "--db", t.db, "--trait", "grain_kg", "--json"])
+    a = json.loads(p.stdout)
+    why = [m["reason"] for m in a["missing"] if m["plot"] == "101"]
+    if a.get("unresolved_conflicts") != 1 or not why or "conflict" not in why[0]:
+        fail(f"analyze: unresolved_conflicts {a.get('unresolved_conflicts')}, plot 101 missing reason {why}")
+    if "1 plot(s) of grain_kg in conflict left out of the analysis" not in p.stderr.decode():
+        fail(f"analyze: no stderr note: {p.stderr.decode()!r}")
     run([exe, "resolve", "--db", t.db, "--plot", 101, "--trait", "grain_kg", "--value", "4.8",
          "--reason", "sample re-weighed"])
     j = json.loads(run([exe, "export", "--db", t.db, "--format", "json"]).stdout)
