@@ -8,6 +8,7 @@
 #include <cmath>
 #include <iostream>
 #include <map>
+#include <optional>
 #include <set>
 
 #include "core/error.hpp"
@@ -17,6 +18,7 @@
 #include "firmware_app/trait_analysis.hpp"
 #include "storage/csv_table.hpp"
 #include "storage/store.hpp"
+#include "storage/sync_conflicts.hpp"
 
 namespace pw::app {
 namespace {
@@ -34,6 +36,7 @@ struct Subject {
     std::string unit;
     std::vector<std::string> notes;         // flagged plots, merged duplicates
     std::map<std::size_t, std::string> missing_why;  // record → reason it has no value
+    std::optional<std::size_t> unresolved;           // database: plots of this trait in conflict, left out
 };
 
 std::string num(double v) {
@@ -218,6 +221,7 @@ std::string render_json(const Subject& s, const AnalysisResult& r) {
     }
     notes.insert(notes.end(), s.notes.begin(), s.notes.end());
     j["notes"] = notes;
+    if (s.unresolved) j["unresolved_conflicts"] = *s.unresolved;
     return j.dump(2) + "\n";
 }
 
@@ -256,18 +260,26 @@ TrialData from_store(const Store& store, const std::string& trait_name, Subject&
     s.trait = trait->name;
     s.unit = trait->unit;
 
-    // The newest current value per plot; several current values exist only after a merge of devices.
+    // One value per plot: the resolved values (storage/sync_conflicts.hpp). Plots whose values disagree after
+    // a merge of handhelds are left out until the conflict is resolved (docs/station.md).
     std::map<int, const ObservationRow*> latest;
-    auto rows = store.current_observations();
-    for (const auto& row : rows) {
+    const ResolvedObservations resolved = resolved_observations(store);
+    for (const auto& row : resolved.rows) {
         if (row.record.obs.trait != trait_name || !row.record.obs.number) continue;
-        auto [it, fresh] = latest.emplace(row.record.obs.plot, &row);
-        if (!fresh) {
-            s.notes.push_back(fmt::format("plot {} has several current values; the newest is used",
-                                          row.record.obs.plot));
-            if (row.record.id > it->second->record.id) it->second = &row;
-        }
+        latest.emplace(row.record.obs.plot, &row);
     }
+    std::map<int, std::string> conflicts;
+    for (const auto& c : resolved.conflicts) {
+        if (c.trait != trait_name) continue;
+        std::string values;
+        for (const auto& v : c.values) values += (values.empty() ? "" : ", ") + v.record.obs.value;
+        conflicts[c.plot] = fmt::format("values in conflict ({}), left out until resolved", values);
+    }
+    s.unresolved = conflicts.size();
+    if (!conflicts.empty())
+        s.notes.push_back(fmt::format("{} plot(s) of {} with values in conflict are left out of the analysis "
+                                      "(plotwright conflicts, plotwright resolve)",
+                                      conflicts.size(), trait_name));
     // Flags (oldest first): a flag that treats the plot as missing leaves its values out, recorded before or
     // after (docs/recording.md); other flags keep the values, with a note.
     std::map<int, std::string> flags, missing_flags;
@@ -322,6 +334,11 @@ TrialData from_store(const Store& store, const std::string& trait_name, Subject&
         if (auto mf = missing_flags.find(p->id); mf != missing_flags.end()) {
             s.missing_why[i] = fmt::format("plot {}: {}{}", p->id, mf->second,
                                            it == latest.end() ? "" : "; its recorded value is not used");
+            d.y.push_back(std::nan(""));
+            continue;
+        }
+        if (auto c = conflicts.find(p->id); c != conflicts.end()) {
+            s.missing_why[i] = fmt::format("plot {}: {}", p->id, c->second);
             d.y.push_back(std::nan(""));
             continue;
         }
@@ -501,7 +518,14 @@ void add_analyze_command(CLI::App& app) {
     cmd->callback([o] {
         if (!o->db.empty()) {
             if (o->trait.empty()) throw InputError("--db needs --trait NAME");
-            emit(o->out, analyze_trait(Store::open(o->db), o->trait, o->json));
+            const Store store = Store::open(o->db);
+            emit(o->out, analyze_trait(store, o->trait, o->json));
+            std::size_t unresolved = 0;
+            for (const auto& c : unresolved_conflicts(store)) unresolved += c.trait == o->trait ? 1 : 0;
+            if (unresolved > 0)
+                std::cerr << fmt::format("note: {} plot(s) of {} in conflict left out of the analysis (plotwright "
+                                         "conflicts lists them, plotwright resolve settles them)\n",
+                                         unresolved, o->trait);
             return;
         }
         if (o->csv.empty())
