@@ -87,9 +87,11 @@ const std::vector<ColourClass>& diverging_scale() {
 }
 
 int sequential_class(double v, double lo, double hi, int classes) {
-    if (!(hi > lo)) return classes / 2;
-    const int c = static_cast<int>(std::floor((v - lo) / (hi - lo) * classes));
-    return std::clamp(c, 0, classes - 1);
+    if (!(hi > lo) || !std::isfinite(v)) return classes / 2;
+    // Clamped while still a double: converting an out-of-range double to int is undefined, and x86-64 and
+    // aarch64 do differ (x86-64 gives INT_MIN, aarch64 saturates).
+    const double c = std::floor((v - lo) / (hi - lo) * classes);
+    return static_cast<int>(std::clamp(c, 0.0, static_cast<double>(classes - 1)));
 }
 
 const std::vector<double>& residual_class_bounds() {
@@ -111,12 +113,14 @@ double LinearAxis::to_px(double v) const { return px0 + (v - min) / (max - min) 
 
 std::vector<double> LinearAxis::ticks() const {
     std::vector<double> t;
-    const int n = static_cast<int>(std::llround((max - min) / step));
-    for (int i = 0; i <= n; ++i) t.push_back(min + step * i);
+    const double n = std::round((max - min) / step);
+    if (!std::isfinite(n) || n < 0) return t;
+    for (int i = 0; i <= static_cast<int>(std::min(n, 1000.0)); ++i) t.push_back(min + step * i);
     return t;
 }
 
 LinearAxis nice_axis(double lo, double hi, double px0, double px1, int target) {
+    if (!std::isfinite(lo) || !std::isfinite(hi)) lo = 0, hi = 1;  // nothing finite to show: a plain 0..1 axis
     if (!(hi > lo)) {
         const double pad = lo != 0 ? std::fabs(lo) * 0.1 : 1;
         lo -= pad;
@@ -144,7 +148,10 @@ LinearAxis nice_axis(double lo, double hi, double px0, double px1, int target) {
 namespace {
 // Tick text with as many decimals as the step needs.
 std::string tick_text(double v, double step) {
-    const int decimals = std::max(0, static_cast<int>(std::ceil(-std::log10(step) - 1e-9)));
+    // Clamped as a double (see sequential_class): a step of 0 or NaN would otherwise ask for 2^31 decimals on
+    // aarch64, where the conversion saturates.
+    const double wanted = std::ceil(-std::log10(step) - 1e-9);
+    const int decimals = std::isfinite(wanted) ? static_cast<int>(std::clamp(wanted, 0.0, 12.0)) : 0;
     if (std::fabs(v) < step * 1e-9) v = 0;
     return fmt::format("{:.{}f}", v, decimals);
 }
@@ -352,7 +359,8 @@ std::string map_legend_svg(const MapColouring& col) {
     if (seq) {
         const int n = static_cast<int>(scale.size());
         const double step = (col.hi - col.lo) / n;
-        const int decimals = step > 0 ? std::clamp(static_cast<int>(std::ceil(-std::log10(step))) + 1, 0, 6) : 2;
+        const double wanted = std::ceil(-std::log10(step)) + 1;
+        const int decimals = step > 0 && std::isfinite(wanted) ? static_cast<int>(std::clamp(wanted, 0.0, 6.0)) : 2;
         for (int k = 0; k <= n; k += (n > 6 ? 2 : 1)) {
             const double v = col.lo + step * k;
             o += fmt::format("<text class=\"tick\" x=\"{}\" y=\"{}\">{:.{}f}</text>", px(left + sw * k), px(top + 32),
