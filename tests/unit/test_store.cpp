@@ -28,25 +28,14 @@
 #include "core/spec/trial_spec.hpp"
 #include "storage/csv_table.hpp"
 #include "storage/store.hpp"
+#include "temp_dir.hpp"
 
 using namespace pw;
 
 namespace {
 
 // A fresh directory per test, removed afterwards.
-struct TempDir {
-    std::filesystem::path path;
-    TempDir() {
-        std::string tmpl = (std::filesystem::temp_directory_path() / "pw-store-XXXXXX").string();
-        if (!mkdtemp(tmpl.data())) throw std::runtime_error("mkdtemp failed");
-        path = tmpl;
-    }
-    ~TempDir() {
-        std::error_code ec;
-        std::filesystem::remove_all(path, ec);
-    }
-    std::string file(const std::string& name) const { return (path / name).string(); }
-};
+using pw_test::TempDir;
 
 const char* const kSpecToml = R"toml(# sorghum nitrogen rates, store tests
 [trial]

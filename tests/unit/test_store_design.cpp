@@ -21,24 +21,14 @@
 #include "storage/csv_table.hpp"
 #include "storage/schema.hpp"
 #include "storage/store.hpp"
+#include "old_database.hpp"
+#include "temp_dir.hpp"
 
 using namespace pw;
 
 namespace {
 
-struct TempDir {
-    std::filesystem::path path;
-    TempDir() {
-        std::string tmpl = (std::filesystem::temp_directory_path() / "pw-store-design-XXXXXX").string();
-        if (!mkdtemp(tmpl.data())) throw std::runtime_error("mkdtemp failed");
-        path = tmpl;
-    }
-    ~TempDir() {
-        std::error_code ec;
-        std::filesystem::remove_all(path, ec);
-    }
-    std::string file(const std::string& name) const { return (path / name).string(); }
-};
+using pw_test::TempDir;
 
 const char* const kSplitToml = R"toml([trial]
 code = "SPL26"
@@ -137,51 +127,7 @@ TEST_CASE("A database made before the design columns is migrated with the values
     // Build a version-1 database by hand: migration 1 only, one RCBD trial of 2 treatments x 2 blocks.
     TempDir dir;
     const std::string path = dir.file("old.pwdb");
-    const char* toml = R"toml([trial]
-code = "OLD25"
-title = "Old"
-site = "S"
-crop = "wheat"
-design = "rcbd"
-blocks = 2
-[field]
-plot_length_m = 4
-plot_width_m = 2
-alley_m = 1
-[gradient]
-bearing_deg = 0
-label = "slope"
-[[treatments]]
-label = "A"
-[[treatments]]
-label = "B"
-[[traits]]
-name = "grain_kg"
-unit = "kg"
-kind = "number"
-)toml";
-    {
-        sqlite3* db = nullptr;
-        REQUIRE(sqlite3_open(path.c_str(), &db) == SQLITE_OK);
-        int count = 0;
-        const schema::Migration* ms = schema::migrations(&count);
-        REQUIRE(count >= 2);
-        const std::string mark = "PRAGMA application_id = " + std::to_string(schema::kApplicationId) + "; BEGIN";
-        REQUIRE(sqlite3_exec(db, mark.c_str(), nullptr, nullptr, nullptr) == SQLITE_OK);
-        schema::apply(db, ms[0]);
-        const std::string rows =
-            std::string("INSERT INTO trial VALUES (1, 'OLD25', 'Old', '") + toml +
-            "', 'old.toml', '7', 'x;design=rcbd/1', 4, 9, '[]', '2025-01-01T00:00:00Z', '0.1.0');"
-            "INSERT INTO treatment VALUES (0, 'A', '', 0), (1, 'B', '', 0);"
-            "INSERT INTO trait VALUES ('grain_kg', 0, 'grain_kg', 'kg', 'number', NULL, NULL, 2, 200, '[]');"
-            "INSERT INTO plot VALUES (101, 1, 1, 1, 1, 1, 1, 1, 2, 2, 4), (102, 1, 2, 2, 1, 2, 0, 3, 2, 2, 4),"
-            " (201, 2, 1, 3, 2, 2, 0, 3, 7, 2, 4), (202, 2, 2, 4, 2, 1, 1, 1, 7, 2, 4);"
-            "COMMIT";
-        char* err = nullptr;
-        CHECK(sqlite3_exec(db, rows.c_str(), nullptr, nullptr, &err) == SQLITE_OK);
-        if (err) FAIL(err);
-        sqlite3_close(db);
-    }
+    pw_test::make_old_database(path, 1);
     const Store s = Store::open(path);
     CHECK(store_schema_version() >= 2);
     const Layout& l = s.trial().layout;

@@ -33,24 +33,14 @@
 #include "storage/csv_table.hpp"
 #include "storage/schema.hpp"
 #include "storage/store.hpp"
+#include "old_database.hpp"
+#include "temp_dir.hpp"
 
 using namespace pw;
 
 namespace {
 
-struct TempDir {
-    std::filesystem::path path;
-    TempDir() {
-        std::string tmpl = (std::filesystem::temp_directory_path() / "pw-store-undo-XXXXXX").string();
-        if (!mkdtemp(tmpl.data())) throw std::runtime_error("mkdtemp failed");
-        path = tmpl;
-    }
-    ~TempDir() {
-        std::error_code ec;
-        std::filesystem::remove_all(path, ec);
-    }
-    std::string file(const std::string& name) const { return (path / name).string(); }
-};
+using pw_test::TempDir;
 
 const char* const kSpec = R"toml([trial]
 code = "UNDO26"
@@ -273,62 +263,15 @@ TEST_CASE("A version-3 database migrates to flags and undo, its old plot events 
           "[store][flags][migration]") {
     TempDir dir;
     const std::string path = dir.file("v3.pwdb");
-    const char* toml = R"toml([trial]
-code = "OLD25"
-title = "Old"
-site = "S"
-crop = "wheat"
-design = "rcbd"
-blocks = 2
-[field]
-plot_length_m = 4
-plot_width_m = 2
-alley_m = 1
-[gradient]
-bearing_deg = 0
-label = "slope"
-[[treatments]]
-label = "A"
-[[treatments]]
-label = "B"
-[[traits]]
-name = "grain_kg"
-unit = "kg"
-kind = "number"
-)toml";
-    {
-        // Migrations 1 to 3 only, with the rows a version-3 recorder wrote: values and two plot events.
-        sqlite3* db = nullptr;
-        REQUIRE(sqlite3_open(path.c_str(), &db) == SQLITE_OK);
-        int count = 0;
-        const schema::Migration* ms = schema::migrations(&count);
-        REQUIRE(count >= 4);
-        REQUIRE(ms[3].version == 4);
-        const std::string mark = "PRAGMA application_id = " + std::to_string(schema::kApplicationId) + "; BEGIN";
-        REQUIRE(sqlite3_exec(db, mark.c_str(), nullptr, nullptr, nullptr) == SQLITE_OK);
-        for (int i = 0; i < 3; ++i) schema::apply(db, ms[i]);
-        const std::string rows =
-            std::string("INSERT INTO trial (id, code, title, spec_toml, spec_source, seed, algorithm, field_x_m, "
-                        "field_y_m, layout_notes, created_utc, app_version) VALUES (1, 'OLD25', 'Old', '") +
-            toml +
-            "', 'old.toml', '7', 'x;design=rcbd/1', 4, 9, '[]', '2025-01-01T00:00:00Z', '0.1.0');"
-            "INSERT INTO treatment VALUES (0, 'A', '', 0), (1, 'B', '', 0);"
-            "INSERT INTO trait VALUES ('grain_kg', 0, 'grain_kg', 'kg', 'number', NULL, NULL, 2, 200, '[]');"
-            "INSERT INTO plot (id, block, position, walk_order, row, col, treatment, x_m, y_m, width_x_m, width_y_m)"
-            " VALUES (101, 1, 1, 1, 1, 1, 1, 1, 2, 2, 4), (102, 1, 2, 2, 1, 2, 0, 3, 2, 2, 4),"
-            " (201, 2, 1, 3, 2, 2, 0, 3, 7, 2, 4), (202, 2, 2, 4, 2, 1, 1, 1, 7, 2, 4);"
-            "INSERT INTO observation (plot, trait, value, number, recorded_utc, device, observer, note) VALUES"
-            " (101, 'grain_kg', '4.10', 4.1, '2025-06-01T08:00:00Z', 'hh', 'o', ''),"
-            " (102, 'grain_kg', '3.90', 3.9, '2025-06-01T08:01:00Z', 'hh', 'o', '');"
-            "INSERT INTO plot_event (plot, state, reason, recorded_utc, device, observer) VALUES"
-            " (101, 'damaged', 'hail', '2025-06-01T08:02:00Z', 'hh', 'o'),"
-            " (102, 'missing', 'washed out', '2025-06-01T08:03:00Z', 'hh', 'o');"
-            "COMMIT";
-        char* err = nullptr;
-        CHECK(sqlite3_exec(db, rows.c_str(), nullptr, nullptr, &err) == SQLITE_OK);
-        if (err) FAIL(err);
-        sqlite3_close(db);
-    }
+    // Migrations 1 to 3 only, with the rows a version-3 recorder wrote: values and two plot events.
+    pw_test::make_old_database(
+        path, 3,
+        "INSERT INTO observation (plot, trait, value, number, recorded_utc, device, observer, note) VALUES"
+        " (101, 'grain_kg', '4.10', 4.1, '2025-06-01T08:00:00Z', 'hh', 'o', ''),"
+        " (102, 'grain_kg', '3.90', 3.9, '2025-06-01T08:01:00Z', 'hh', 'o', '');"
+        "INSERT INTO plot_event (plot, state, reason, recorded_utc, device, observer) VALUES"
+        " (101, 'damaged', 'hail', '2025-06-01T08:02:00Z', 'hh', 'o'),"
+        " (102, 'missing', 'washed out', '2025-06-01T08:03:00Z', 'hh', 'o');");
     REQUIRE(raw_rows(path, "PRAGMA user_version") == "3\n");
     Store s = Store::open(path);
     // Every later migration is applied too (migration 5, station sync, adds tables only).

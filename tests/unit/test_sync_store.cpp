@@ -30,24 +30,13 @@
 #include "storage/store.hpp"
 #include "storage/sync.hpp"
 #include "storage/sync_conflicts.hpp"
+#include "temp_dir.hpp"
 
 using namespace pw;
 
 namespace {
 
-struct TempDir {
-    std::filesystem::path path;
-    TempDir() {
-        std::string tmpl = (std::filesystem::temp_directory_path() / "pw-sync-XXXXXX").string();
-        if (!mkdtemp(tmpl.data())) throw std::runtime_error("mkdtemp failed");
-        path = tmpl;
-    }
-    ~TempDir() {
-        std::error_code ec;
-        std::filesystem::remove_all(path, ec);
-    }
-    std::string file(const std::string& name) const { return (path / name).string(); }
-};
+using pw_test::TempDir;
 
 const char* const kSpec = R"toml([trial]
 code = "SYNC26"

@@ -15,22 +15,11 @@
 #include "core/spec/trial_spec.hpp"
 #include "storage/certificate.hpp"
 #include "storage/store.hpp"
+#include "temp_dir.hpp"
 
 namespace {
 
-struct TempDir {
-    std::filesystem::path path;
-    TempDir() {
-        std::string tmpl = (std::filesystem::temp_directory_path() / "pw-verify-XXXXXX").string();
-        if (!mkdtemp(tmpl.data())) throw std::runtime_error("mkdtemp failed");
-        path = tmpl;
-    }
-    ~TempDir() {
-        std::error_code ec;
-        std::filesystem::remove_all(path, ec);
-    }
-    std::string file(const std::string& name) const { return (path / name).string(); }
-};
+using pw_test::TempDir;
 
 constexpr const char* kSpec = R"toml(
 [trial]
