@@ -45,6 +45,14 @@ std::vector<ColourClass> make_scale(const std::vector<const char*>& hexes) {
     return out;
 }
 
+// `v` as an int within lo..hi, or `otherwise` when it is not finite. Clamped while still a double: converting
+// an out-of-range double to int is undefined, and x86-64 and aarch64 do differ (x86-64 gives INT_MIN,
+// aarch64 saturates), so a step of 0 once asked fmt for 2^31 decimals on aarch64.
+int clamped_int(double v, int lo, int hi, int otherwise) {
+    return std::isfinite(v) ? static_cast<int>(std::clamp(v, static_cast<double>(lo), static_cast<double>(hi)))
+                            : otherwise;
+}
+
 // Fits `chars` characters of DejaVu/Helvetica-like text into w × h: about 0.6 em per character and 1.25 em
 // per line (common practice for a sans-serif face). 0 when it would be smaller than `min_size`.
 double fit_font(std::size_t chars, double w, double h, int lines, double max_size, double min_size) {
@@ -87,11 +95,8 @@ const std::vector<ColourClass>& diverging_scale() {
 }
 
 int sequential_class(double v, double lo, double hi, int classes) {
-    if (!(hi > lo) || !std::isfinite(v)) return classes / 2;
-    // Clamped while still a double: converting an out-of-range double to int is undefined, and x86-64 and
-    // aarch64 do differ (x86-64 gives INT_MIN, aarch64 saturates).
-    const double c = std::floor((v - lo) / (hi - lo) * classes);
-    return static_cast<int>(std::clamp(c, 0.0, static_cast<double>(classes - 1)));
+    if (!(hi > lo)) return classes / 2;
+    return clamped_int(std::floor((v - lo) / (hi - lo) * classes), 0, classes - 1, classes / 2);
 }
 
 const std::vector<double>& residual_class_bounds() {
@@ -148,10 +153,7 @@ LinearAxis nice_axis(double lo, double hi, double px0, double px1, int target) {
 namespace {
 // Tick text with as many decimals as the step needs.
 std::string tick_text(double v, double step) {
-    // Clamped as a double (see sequential_class): a step of 0 or NaN would otherwise ask for 2^31 decimals on
-    // aarch64, where the conversion saturates.
-    const double wanted = std::ceil(-std::log10(step) - 1e-9);
-    const int decimals = std::isfinite(wanted) ? static_cast<int>(std::clamp(wanted, 0.0, 12.0)) : 0;
+    const int decimals = clamped_int(std::ceil(-std::log10(step) - 1e-9), 0, 12, 0);
     if (std::fabs(v) < step * 1e-9) v = 0;
     return fmt::format("{:.{}f}", v, decimals);
 }
@@ -359,8 +361,7 @@ std::string map_legend_svg(const MapColouring& col) {
     if (seq) {
         const int n = static_cast<int>(scale.size());
         const double step = (col.hi - col.lo) / n;
-        const double wanted = std::ceil(-std::log10(step)) + 1;
-        const int decimals = step > 0 && std::isfinite(wanted) ? static_cast<int>(std::clamp(wanted, 0.0, 6.0)) : 2;
+        const int decimals = step > 0 ? clamped_int(std::ceil(-std::log10(step)) + 1, 0, 6, 2) : 2;
         for (int k = 0; k <= n; k += (n > 6 ? 2 : 1)) {
             const double v = col.lo + step * k;
             o += fmt::format("<text class=\"tick\" x=\"{}\" y=\"{}\">{:.{}f}</text>", px(left + sw * k), px(top + 32),
