@@ -19,6 +19,8 @@
 #include "storage/csv_table.hpp"
 #include "storage/store.hpp"
 #include "storage/sync_conflicts.hpp"
+#include "storage/trait_values.hpp"
+#include "core/traits/yield.hpp"
 
 namespace pw::app {
 namespace {
@@ -244,37 +246,21 @@ std::vector<std::string> factor_levels_of(const TrialSpec& spec, int index) {
 
 TrialData from_store(const Store& store, const std::string& trait_name, Subject& s) {
     const StoredTrial& t = store.trial();
-    const TraitSpec* trait = nullptr;
-    for (const auto& tr : t.spec.traits)
-        if (tr.name == trait_name) trait = &tr;
-    if (!trait) {
-        std::string names;
-        for (const auto& tr : t.spec.traits) names += (names.empty() ? "" : ", ") + tr.name;
-        throw InputError(fmt::format("--trait {}: trial {} has no such trait (it has: {})", trait_name,
-                                     t.spec.code, names));
-    }
+    // One value per plot: the resolved values (storage/sync_conflicts.hpp), or for a yield the values computed
+    // from them (storage/trait_values.hpp). Plots whose values disagree after a merge of handhelds are left
+    // out until the conflict is resolved (docs/station.md).
+    const ResolvedObservations resolved = resolved_observations(store);
+    const TraitValues values = trait_values(t, resolved, trait_name);
+    const TraitSpec* trait = &values.trait;
     if (trait->kind == TraitKind::Date || trait->kind == TraitKind::Text)
         throw InputError(fmt::format("--trait {}: a {} trait has no ANOVA; choose a number, count or score",
                                      trait_name, to_string(trait->kind)));
     s.source = "trial " + t.spec.code;
     s.trait = trait->name;
     s.unit = trait->unit;
-
-    // One value per plot: the resolved values (storage/sync_conflicts.hpp). Plots whose values disagree after
-    // a merge of handhelds are left out until the conflict is resolved (docs/station.md).
-    std::map<int, const ObservationRow*> latest;
-    const ResolvedObservations resolved = resolved_observations(store);
-    for (const auto& row : resolved.rows) {
-        if (row.record.obs.trait != trait_name || !row.record.obs.number) continue;
-        latest.emplace(row.record.obs.plot, &row);
-    }
-    std::map<int, std::string> conflicts;
-    for (const auto& c : resolved.conflicts) {
-        if (c.trait != trait_name) continue;
-        std::string values;
-        for (const auto& v : c.values) values += (values.empty() ? "" : ", ") + v.record.obs.value;
-        conflicts[c.plot] = fmt::format("values in conflict ({}), left out until resolved", values);
-    }
+    if (values.yield) s.notes.push_back(fmt::format("{} is computed: {}", trait_name, describe_yield(*values.yield)));
+    const auto& latest = values.values;
+    const auto& conflicts = values.conflicts;
     s.unresolved = conflicts.size();
     if (!conflicts.empty())
         s.notes.push_back(fmt::format("{} plot(s) of {} with values in conflict are left out of the analysis "
@@ -342,13 +328,18 @@ TrialData from_store(const Store& store, const std::string& trait_name, Subject&
             d.y.push_back(std::nan(""));
             continue;
         }
+        if (auto nc = values.not_computed.find(p->id); it == latest.end() && nc != values.not_computed.end()) {
+            s.missing_why[i] = fmt::format("plot {}: {}", p->id, nc->second);
+            d.y.push_back(std::nan(""));
+            continue;
+        }
         if (it == latest.end()) {
             s.missing_why[i] = fmt::format("plot {}{}", p->id, flag == flags.end() ? ": no value recorded" : ": " + flag->second);
             d.y.push_back(std::nan(""));  // a known plot without a value (analysis.hpp)
             continue;
         }
         if (flag != flags.end()) s.notes.push_back(fmt::format("plot {} {}; its value is used", p->id, flag->second));
-        d.y.push_back(*it->second->record.obs.number);
+        d.y.push_back(*it->second.obs.number);
     }
     if ((design == "split" || design == "strip") && d.factor_names.size() != 2)
         throw InputError(fmt::format("trial {}: a {} design needs its two [[factors]] (main and sub)", t.spec.code, design));
@@ -519,13 +510,13 @@ void add_analyze_command(CLI::App& app) {
         if (!o->db.empty()) {
             if (o->trait.empty()) throw InputError("--db needs --trait NAME");
             const Store store = Store::open(o->db);
-            emit(o->out, analyze_trait(store, o->trait, o->json));
-            std::size_t unresolved = 0;
-            for (const auto& c : unresolved_conflicts(store)) unresolved += c.trait == o->trait ? 1 : 0;
-            if (unresolved > 0)
+            Subject s;
+            const AnalysisResult r = analyze_trial(from_store(store, o->trait, s));
+            emit(o->out, o->json ? render_json(s, r) : render_text(s, r));
+            if (s.unresolved.value_or(0) > 0)
                 std::cerr << fmt::format("note: {} plot(s) of {} in conflict left out of the analysis (plotwright "
                                          "conflicts lists them, plotwright resolve settles them)\n",
-                                         unresolved, o->trait);
+                                         *s.unresolved, o->trait);
             return;
         }
         if (o->csv.empty())

@@ -184,13 +184,16 @@ void run_demo(const std::string& spec_path, const std::string& out_dir) {
         std::cout << "4. export   observations.csv (one current value per row) and plots.csv\n";
     }
 
-    auto trait = std::find_if(spec.traits.begin(), spec.traits.end(),
-                              [](const TraitSpec& t) { return t.kind == TraitKind::Number; });
-    if (trait != spec.traits.end()) {
-        std::cout << fmt::format("5. analysis of {} (plotwright analyze --db {} --trait {}):\n\n", trait->name, db,
-                                 trait->name);
+    // The analysis shown is the spec's first yield (computed from weight and moisture), else its first number.
+    std::string analysed;
+    for (const auto& t : spec.traits)
+        if (analysed.empty() && t.kind == TraitKind::Number) analysed = t.name;
+    if (!spec.yields.empty()) analysed = spec.yields.front().name;
+    if (!analysed.empty()) {
+        std::cout << fmt::format("5. analysis of {} (plotwright analyze --db {} --trait {}):\n\n", analysed, db,
+                                 analysed);
         Store store = Store::open(db);
-        std::string report = analyze_trait(store, trait->name, false);
+        std::string report = analyze_trait(store, analysed, false);
         std::string analysis_file = (fs::path(out_dir) / "analysis.txt").string();
         write_file(analysis_file, report);
         std::cout << report << "\n";

@@ -13,6 +13,8 @@
 #include "storage/certificate.hpp"
 #include "storage/store.hpp"
 #include "storage/sync_conflicts.hpp"
+#include "storage/trait_values.hpp"
+#include "core/traits/yield.hpp"
 
 namespace pw::app {
 namespace {
@@ -44,12 +46,20 @@ std::string trial_report_html(const Store& store, bool blind, const std::string&
     in.generated_utc = now_utc;
     in.program = "plotwright " PW_APP_VERSION;
     in.blind = blind;
-    for (const TraitSpec& trait : t.spec.traits) {
-        if (trait.kind == TraitKind::Date || trait.kind == TraitKind::Text) continue;
+    std::vector<std::string> names;
+    for (const TraitSpec& trait : t.spec.traits)
+        if (trait.kind != TraitKind::Date && trait.kind != TraitKind::Text) names.push_back(trait.name);
+    for (const YieldSpec& y : t.spec.yields) names.push_back(y.name);
+    for (const std::string& name : names) {
         report::TraitSection s;
-        s.trait = trait;
+        TraitValues values = trait_values(t, resolved, name);
+        s.trait = values.trait;
+        if (values.yield) {
+            s.computed_how = describe_yield(*values.yield);
+            for (auto& [plot, rec] : values.values) s.computed.push_back(std::move(rec));
+        }
         try {
-            TraitAnalysis a = analyze_trait_result(store, trait.name);
+            TraitAnalysis a = analyze_trait_result(store, name);
             s.analysis = std::move(a.result);
             s.missing_why = std::move(a.missing_why);
             s.notes = std::move(a.notes);

@@ -482,7 +482,7 @@ std::string plot_table(const TraitView& v, const AnalysisResult* r) {
 
 std::string trait_section(const TraitSection& s, const ReportInput& in, const Labels& lab, const MapModel* model) {
     TraitView v{s, in, lab, {}, {}};
-    for (const ObservationRecord& rec : in.observations) {
+    for (const ObservationRecord& rec : s.computed_how.empty() ? in.observations : s.computed) {
         if (rec.obs.trait != s.trait.name || !rec.obs.number) continue;
         auto [it, fresh] = v.latest.emplace(rec.obs.plot, &rec);
         if (!fresh && rec.id > it->second->id) it->second = &rec;
@@ -490,9 +490,13 @@ std::string trait_section(const TraitSection& s, const ReportInput& in, const La
     for (const PlotEvent& e : in.events) v.flags[e.plot].push_back(&e);
     const std::size_t plots = in.layout.plots.size();
     std::string o = fmt::format("<section class=\"trait\" id=\"trait-{}\" data-trait=\"{}\">\n<h2>{}</h2>\n"
-                                "<p class=\"sub\">trait <code>{}</code>, {}; recorded on {} of {} plots</p>\n",
-                                esc(s.trait.name), esc(s.trait.name), esc(trait_title(s.trait)), esc(s.trait.name),
-                                to_string(s.trait.kind), v.latest.size(), plots);
+                                "<p class=\"sub\">{} <code>{}</code>, {}; {} on {} of {} plots</p>\n",
+                                esc(s.trait.name), esc(s.trait.name), esc(trait_title(s.trait)),
+                                s.computed_how.empty() ? "trait" : "yield", esc(s.trait.name),
+                                to_string(s.trait.kind), s.computed_how.empty() ? "recorded" : "computed",
+                                v.latest.size(), plots);
+    if (!s.computed_how.empty())
+        o += fmt::format("<p class=\"computed\">Computed from the recorded values: {}.</p>\n", esc(s.computed_how));
     const AnalysisResult* r = s.analysis ? &*s.analysis : nullptr;
     if (!r)
         o += fmt::format("<p class=\"refused\"><strong>Not analysed:</strong> {}</p>\n",

@@ -127,6 +127,10 @@ struct TraitSection {
     std::string not_analysed;                         // why, when analysis is empty
     std::map<std::size_t, std::string> missing_why;   // index into analysis->plots
     std::vector<std::string> notes;
+    // A yield of the spec ([[yields]]): how it is computed, and its values (recorded traits read theirs
+    // from ReportInput::observations).
+    std::string computed_how;
+    std::vector<ObservationRecord> computed;
 };
 
 // A plot and trait whose values from different handhelds (or one handheld twice) disagree and that the
@@ -145,7 +149,8 @@ struct ReportInput {
     std::vector<ObservationRecord> observations;      // current values (every trait)
     std::vector<PlotEvent> events;                    // every flag, oldest first
     std::vector<UnresolvedConflict> conflicts;        // unresolved sync conflicts, walking then trait order
-    std::vector<TraitSection> traits;                 // numeric traits (number, count, score), spec order
+    std::vector<TraitSection> traits;                 // numeric traits (number, count, score), then yields,
+                                                      // spec order
     std::string generated_utc;                        // when the report was written
     std::string program;                              // "plotwright 0.1.0"
     bool blind = false;                               // treatment labels replaced by T1..Tn (scorers' copy)

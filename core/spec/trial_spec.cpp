@@ -25,6 +25,7 @@
 #include <toml++/toml.h>
 
 #include "core/error.hpp"
+#include "core/traits/yield.hpp"
 
 namespace pw {
 
@@ -46,6 +47,15 @@ const char* to_string(BorderKind kind) {
         case BorderKind::GradientEdges: return "gradient_edges";
     }
     return "none";
+}
+
+const char* to_string(YieldUnit unit) {
+    switch (unit) {
+        case YieldUnit::TonnesPerHectare: return "t/ha";
+        case YieldUnit::KilogramsPerHectare: return "kg/ha";
+        case YieldUnit::KilogramsPerPlot: return "kg";
+    }
+    return "t/ha";
 }
 
 const std::vector<std::string>& design_names() {
@@ -748,6 +758,109 @@ void read_flags(const Reader& r, const toml::table& root, std::vector<FlagSpec>&
     }
 }
 
+// [[yields]]: read after the traits and the field, whose names, units and harvest area they resolve.
+void read_yields(const Reader& r, const toml::table& root, TrialSpec& spec) {
+    const toml::array& a = r.req_array_of_tables(root, "yields");
+    auto trait_named = [&](const std::string& name) -> const TraitSpec* {
+        for (const TraitSpec& t : spec.traits)
+            if (t.name == name) return &t;
+        return nullptr;
+    };
+    auto trait_names = [&] {
+        std::vector<std::string_view> names;
+        for (const TraitSpec& t : spec.traits) names.push_back(t.name);
+        return join(names);
+    };
+    for (std::size_t i = 0; i < a.size(); ++i) {
+        const Scope s = r.table(*a.get(i), fmt::format("yields[{}]", i + 1));
+        r.only_keys(s, {"name", "label", "weight", "moisture", "standard_moisture_pct", "unit"});
+        YieldSpec y;
+        y.name = r.req_string(s, "name");
+        const toml::node& name_node = *r.find(s, "name");
+        if (!is_trait_name(y.name))
+            r.fail(name_node, s.key("name"),
+                   fmt::format("'{}' is not a yield name; expected a lower-case letter followed by lower-case letters, "
+                               "digits or '_' (at most 32 characters), e.g. yield_t_ha",
+                               y.name));
+        if (trait_named(y.name))
+            r.fail(name_node, s.key("name"), fmt::format("'{}' is already the name of a trait; a yield needs its own name", y.name));
+        for (std::size_t j = 0; j < spec.yields.size(); ++j)
+            if (spec.yields[j].name == y.name)
+                r.fail(name_node, s.key("name"), fmt::format("duplicate yield name '{}'; yields[{}] has the same name", y.name, j + 1));
+        y.label = r.opt_string(s, "label", false).value_or(y.name);
+
+        // The weight: a number trait weighed in kg or g.
+        y.weight = r.req_string(s, "weight");
+        const TraitSpec* w = trait_named(y.weight);
+        if (!w)
+            r.fail(*r.find(s, "weight"), s.key("weight"),
+                   fmt::format("no trait named '{}'; expected the number trait that holds the plot's harvested "
+                               "weight (traits: {})", y.weight, trait_names()));
+        if (w->kind != TraitKind::Number || (w->unit != "kg" && w->unit != "g"))
+            r.fail(*r.find(s, "weight"), s.key("weight"),
+                   fmt::format("trait '{}' is a {} trait in '{}'; expected a number trait with unit \"kg\" or \"g\"",
+                               w->name, to_string(w->kind), w->unit));
+        y.weight_kg_per_unit = w->unit == "g" ? 0.001 : 1.0;
+
+        // The moisture and its standard basis: both or neither.
+        const toml::node* basis_node = r.find(s, "standard_moisture_pct");
+        if (auto m = r.opt_string(s, "moisture", false)) {
+            y.moisture = *m;
+            const TraitSpec* mt = trait_named(y.moisture);
+            const toml::node& mn = *r.find(s, "moisture");
+            if (!mt)
+                r.fail(mn, s.key("moisture"),
+                       fmt::format("no trait named '{}'; expected the number trait that holds the grain's moisture in "
+                                   "% (traits: {})", y.moisture, trait_names()));
+            if (mt->kind != TraitKind::Number || mt->unit != "%")
+                r.fail(mn, s.key("moisture"),
+                       fmt::format("trait '{}' is a {} trait in '{}'; expected a number trait with unit \"%\" (moisture "
+                                   "as a percentage of the wet weight)", mt->name, to_string(mt->kind), mt->unit));
+            if (!mt->min || *mt->min < 0 || !mt->max || *mt->max >= 100)
+                r.fail(mn, s.key("moisture"),
+                       fmt::format("trait '{}' needs min >= 0 and max below 100 so that every recorded moisture can be "
+                                   "adjusted (a moisture of 100 % leaves no grain); e.g. min = 5, max = 40", mt->name));
+            if (basis_node) {
+                const double b = r.number_value(*basis_node, s.key("standard_moisture_pct"));
+                if (b < 0 || b >= 100)
+                    r.fail(*basis_node, s.key("standard_moisture_pct"),
+                           fmt::format("expected a moisture from 0 to below 100 %, got {}", show(b)));
+                y.standard_moisture_pct = b;
+                y.basis_origin = "set in the spec";
+            } else if (auto d = moisture_basis_for_crop(spec.crop)) {
+                y.standard_moisture_pct = d->percent;
+                y.basis_origin = fmt::format("default for {}: {}", d->names.front(), d->origin);
+            } else {
+                r.fail(mn, s.key("standard_moisture_pct"),
+                       fmt::format("missing; plotwright has no standard moisture for the crop '{}' (trial.crop); give "
+                                   "the basis to adjust to, e.g. standard_moisture_pct = 14",
+                                   spec.crop));
+            }
+        } else if (basis_node) {
+            r.fail(*basis_node, s.key("standard_moisture_pct"),
+                   "a standard moisture needs the recorded moisture to adjust from; add moisture = \"TRAIT\"");
+        }
+
+        // The unit, and for a unit per area the net harvest area.
+        const std::string unit = r.opt_string(s, "unit", false).value_or("t/ha");
+        bool known = false;
+        for (YieldUnit u : {YieldUnit::TonnesPerHectare, YieldUnit::KilogramsPerHectare, YieldUnit::KilogramsPerPlot})
+            if (unit == to_string(u)) y.unit = u, known = true;
+        if (!known)
+            r.fail(*r.find(s, "unit"), s.key("unit"),
+                   fmt::format("unknown unit '{}'; expected t/ha, kg/ha or kg (the adjusted weight of the plot)", unit));
+        if (y.unit != YieldUnit::KilogramsPerPlot) {
+            if (!spec.field.harvest_length_m || !spec.field.harvest_width_m)
+                r.fail_at(s.table.source(), s.key("unit"),
+                          fmt::format("a yield in {} needs the net harvest area: give field.harvest_length_m and "
+                                   "field.harvest_width_m (the plot's own size when the whole plot is harvested)",
+                                   unit));
+            y.area_m2 = *spec.field.harvest_length_m * *spec.field.harvest_width_m;
+        }
+        spec.yields.push_back(std::move(y));
+    }
+}
+
 }  // namespace
 
 TrialSpec parse_trial_spec(const std::string& toml_text, const std::string& source_name) {
@@ -759,7 +872,7 @@ TrialSpec parse_trial_spec(const std::string& toml_text, const std::string& sour
         throw SpecError(r.where(e.source()), "", fmt::format("not valid TOML: {}", e.description()));
     }
     r.only_keys(Scope{root, ""}, {"trial", "field", "gradient", "second_gradient", "factors", "treatments", "traits",
-                                  "flags"});
+                                  "flags", "yields"});
 
     TrialSpec spec;
     read_trial(r, root, spec);
@@ -817,6 +930,7 @@ TrialSpec parse_trial_spec(const std::string& toml_text, const std::string& sour
         spec.flags.clear();
         read_flags(r, root, spec.flags);
     }
+    if (root.get("yields")) read_yields(r, root, spec);
     return spec;
 }
 

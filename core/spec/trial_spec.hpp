@@ -96,6 +96,29 @@ struct FlagSpec {
 // lodged (values kept).
 const std::vector<FlagSpec>& default_flags();
 
+// Grain yield computed from recorded traits ([[yields]], docs/spec.md "Yields"): a plot's harvested grain
+// weight, adjusted to a standard moisture when the grain's moisture is recorded, per unit of net harvest
+// area. Resolved when the spec is read: the traits exist and have the units the formula needs, the moisture
+// basis is the spec's or the crop's default (core/traits/yield.hpp), the area is the net harvest area.
+enum class YieldUnit {
+    TonnesPerHectare,     // "t/ha"
+    KilogramsPerHectare,  // "kg/ha"
+    KilogramsPerPlot,     // "kg": the moisture-adjusted weight of the plot, no area
+};
+
+struct YieldSpec {
+    std::string name;                  // like a trait name; unique among traits and yields
+    std::string label;                 // defaults to name
+    std::string weight;                // a number trait in "kg" or "g": the grain harvested from the plot
+    double weight_kg_per_unit = 1;     // 1 for kg, 0.001 for g
+    std::string moisture;              // a number trait in "%" (wet basis) with max < 100; "" = not adjusted
+    std::optional<double> standard_moisture_pct;  // the basis the weight is adjusted to (with `moisture`)
+    std::string basis_origin;          // where the basis comes from: "set in the spec" or the crop default's source
+    YieldUnit unit = YieldUnit::TonnesPerHectare;
+    double area_m2 = 0;                // net harvest area of one plot (field.harvest_length_m × harvest_width_m);
+                                       // 0 for KilogramsPerPlot
+};
+
 struct TrialSpec {
     std::string code;         // [A-Z0-9]{2,10}: printed on tags, part of every plot code
     std::string title;
@@ -115,6 +138,7 @@ struct TrialSpec {
     std::vector<TreatmentSpec> treatments;        // expanded: the crossing (+ extra control) for factorials
     std::vector<TraitSpec> traits;
     std::vector<FlagSpec> flags = default_flags();  // [[flags]], at most 9 (one key each on the handheld)
+    std::vector<YieldSpec> yields;                // [[yields]]: computed, never recorded
 };
 
 // Parses TOML text. `source_name` (usually the file path) is used in error messages.
@@ -130,6 +154,7 @@ std::vector<TreatmentSpec> cross_factors(const std::vector<FactorSpec>& factors,
 
 const char* to_string(TraitKind kind);
 const char* to_string(BorderKind kind);
+const char* to_string(YieldUnit unit);        // "t/ha", "kg/ha", "kg"
 std::optional<TraitKind> trait_kind_from_string(const std::string& name);
 
 }  // namespace pw

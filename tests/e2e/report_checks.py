@@ -10,7 +10,8 @@ CHECK is one of
   json      every ANOVA row, grand mean, CV, SED and LSD in the page equals `plotwright analyze --json` for the
             same trait. Both are plotwright's: a CONSISTENCY check (one analysis, two printouts), not validation
   r         the same ANOVA rows, and every plot's residual and standardized residual, equal R 4.2.2's aov run
-            live on the exported observations.csv (the outside reference; exit 77 when Rscript is missing)
+            live on the exported observations.csv (the outside reference; exit 77 when Rscript is missing);
+            for a yield of the spec, R computes the yield itself from the exported weight and moisture
   blind     `report --blind` shows no treatment label of the spec, and T1..Tn instead
   colours   the colour classes drawn in the legends are ColorBrewer's YlGnBu (9) and RdBu (11) as R's
             RColorBrewer::brewer.pal gives them (exit 77 when R or RColorBrewer is missing)
@@ -177,10 +178,15 @@ def check_page(pw, work):
           f"{sum(len(m) for m in page.map_plots.values())} maps")
 
 
-def numeric_traits(out):
+def demo_spec():
     import tomllib
-    spec = tomllib.loads((pathlib.Path(__file__).resolve().parents[2] / "layouts" / "demo.toml").read_text())
-    return [t["name"] for t in spec["traits"] if t["kind"] in ("number", "count", "score")]
+    return tomllib.loads((pathlib.Path(__file__).resolve().parents[2] / "layouts" / "demo.toml").read_text())
+
+
+def numeric_traits(out):
+    spec = demo_spec()
+    return [t["name"] for t in spec["traits"] if t["kind"] in ("number", "count", "score")] + \
+        [y["name"] for y in spec.get("yields", [])]
 
 
 def check_json(pw, work):
@@ -212,7 +218,7 @@ def check_json(pw, work):
 
 R_SCRIPT = r'''
 d <- read.csv("%s", stringsAsFactors = FALSE, colClasses = c(plot = "character"))
-d <- d[d$trait == "%s", ]
+%s
 d$value <- as.numeric(d$value); d$block <- factor(d$block); d$treatment <- factor(d$treatment)
 fit <- aov(value ~ block + treatment, data = d)
 tab <- summary(fit)[[1]]
@@ -238,9 +244,24 @@ def check_r(pw, work):
     out, text = demo(pw, work)
     page = parse(text)
     obs = out / "observations.csv"
+    spec = demo_spec()
+    yields = {y["name"]: y for y in spec.get("yields", [])}
     for trait in numeric_traits(out):
         script = work / f"aov_{trait}.R"
-        script.write_text(R_SCRIPT % (obs, trait))
+        select = f'd <- d[d$trait == "{trait}", ]'
+        if trait in yields:
+            # A yield is computed, never recorded: R recomputes it from the exported weight and moisture with
+            # the formula of the agronomic reference set, weight x (100 - M) / (100 - Mstd) / net area x 10
+            # (t/ha; dry-matter conservation, from memory; Mulvaney & Devkota 2020, UF/IFAS EDIS SS-AGR-443),
+            # with sorghum's 14 % basis (common practice) and the demo field's 6 m x 1.5 m harvest area.
+            y = yields[trait]
+            assert y.get("unit", "t/ha") == "t/ha" and spec["trial"]["crop"] == "sorghum"
+            area = spec["field"]["harvest_length_m"] * spec["field"]["harvest_width_m"]
+            select = (f'w <- d[d$trait == "{y["weight"]}", ]; m <- d[d$trait == "{y["moisture"]}", c("plot", "value")]\n'
+                      f'names(m)[2] <- "moisture"; d <- merge(w, m, by = "plot")\n'
+                      f'd$value <- as.numeric(d$value) * (100 - as.numeric(d$moisture)) / (100 - 14) / {area!r} * 10\n'
+                      f'd <- d[order(d$plot), ]')
+        script.write_text(R_SCRIPT % (obs, select))
         lines = [l.split("\t") for l in run(["Rscript", "--vanilla", script]).stdout.splitlines()]
         names = {"block": "block", "treatment": "treatment", "Residuals": "residual"}
         rows = page.anova[trait]
