@@ -485,7 +485,7 @@ void add_analyze_command(CLI::App& app) {
     auto o = std::make_shared<Options>();
     auto* cmd = app.add_subcommand("analyze", "ANOVA of one trait by the trial's design: strata, means, LSD, HSD");
     auto* db = cmd->add_option("--db", o->db, "Trial database (its stored design is analysed)")->check(CLI::ExistingFile);
-    cmd->add_option("--trait", o->trait, "Trait to analyse (with --db)");
+    cmd->add_option("--trait", o->trait, "Trait or yield ([[yields]] of the spec) to analyse (with --db)");
     auto* csv = cmd->add_option("--csv", o->csv, "Analyse a CSV file instead of a trial database")
                     ->check(CLI::ExistingFile);
     db->excludes(csv);
