@@ -697,6 +697,10 @@ AnalysisResult analyze_trial(const TrialData& d) {
             pf.y = d.y[i] + d.y_offset;
             pf.fitted = fit.fitted[next_obs] + d.y_offset;
             pf.residual = fit.residuals[next_obs];
+            // Internally studentized residual (analysis.hpp: Kutner et al. 2005, §10.2, eq. 10.15).
+            const double h = fit.leverage[next_obs];
+            pf.leverage = h;
+            if (h < 1 && mse > 0) pf.standardized = *pf.residual / std::sqrt(mse * (1 - h));
             all_fitted.add(d.y[i]);
             ++next_obs;
         } else {

@@ -23,6 +23,17 @@
 // adjusted SS, each term after every term not containing it), means are least-squares means, and each
 // missing plot gets the model's prediction (for the RCBD this is Yates' estimate). Split- and strip-plot
 // strata are analysed as fixed block × factor terms: exact for complete data, an approximation otherwise.
+//
+// Standardized residuals are R's rstandard(lm): the internally studentized residual
+//   r_i = e_i / √(MSE·(1 − h_ii)),   h_ii the plot's leverage (diagonal of the hat matrix)
+// (Kutner, Nachtsheim, Neter & Li 2005, Applied Linear Statistical Models, 5th ed., §10.2, eq. 10.15;
+// Cook & Weisberg 1982, Residuals and Influence in Regression, §2.2). MSE is the residual mean square of
+// the fitted model, which is the plot-level (last) error row. For split and strip plots the leverage is
+// that of the whole fixed model with the block × factor strata as terms (the one plotwright fits), so r_i
+// equals R's rstandard(lm(y ~ block + A + block:A + B + A:B)) for a split plot and
+// rstandard(lm(y ~ block + A + block:A + B + block:B + A:B)) for a strip plot, not a residual of the
+// mixed model. A plot with h_ii = 1 (an augmented design's new entry in one plot: residual 0) has no
+// standardized residual; a missing plot has neither.
 #pragma once
 #include <map>
 #include <optional>
@@ -150,6 +161,9 @@ struct PlotFit {
     std::optional<double> y;          // empty: missing plot
     double fitted = 0;                // model prediction (the estimate of a missing plot)
     std::optional<double> residual;
+    std::optional<double> leverage;      // h_ii; empty for a missing plot
+    std::optional<double> standardized;  // residual / √(MSE·(1 − h_ii)) (R's rstandard); empty for a missing
+                                         // plot, when h_ii = 1 or when MSE = 0
 };
 
 struct AnalysisResult {

@@ -254,6 +254,20 @@ Fit fit(const ModelData& data, const std::vector<Term>& terms) {
     out.residual_ss = rss.value();
     out.residual_df = static_cast<int>(n) - out.rank;
 
+    // Leverages: the sum of G over the plot's k indicator columns (k² terms; aliased columns have zero
+    // rows and columns in G), clamped into [0, 1] against rounding.
+    out.leverage.resize(n);
+    for (std::size_t i = 0; i < n; ++i) {
+        CompensatedSum h;
+        for (int a : active[i]) {
+            const double* g = &out.ginv[static_cast<std::size_t>(a) * p];
+            for (int b : active[i]) h.add(g[b]);
+        }
+        double v = h.value();
+        if (v > 1 - kLeverageOneTolerance) v = 1;
+        out.leverage[i] = std::max(0.0, v);
+    }
+
     // Reference df (after the marginal terms alone) and adjusted SS (after every term not containing it).
     for (std::size_t t = 0; t < terms.size(); ++t) {
         std::vector<int> marg;

@@ -25,6 +25,13 @@
 // Numerics: the response is centred on its mean (Neumaier-compensated, plus a correction pass) before
 // any product, so constant leading digits (NIST StRD SmLs sets) cost nothing beyond the representation of
 // the data. Sizes: dense (p+1)² matrix, p the number of columns; sweep cost O(p³) per model.
+//
+// Leverage. h_ii = x_i'G x_i, the diagonal of the hat matrix H = X(X'X)⁻X', which is the same for every
+// generalized inverse (Searle 1971, Linear Models, §1.5; Kutner, Nachtsheim, Neter & Li 2005, Applied
+// Linear Statistical Models, §10.3). X here has the intercept column: G is a g-inverse of the whole X'X
+// (intercept swept first), and centring y changes only the response's row and column, never G. A plot's
+// row is an indicator with k = 1 + (terms present) ones, so h_ii is the sum of the k × k block of G on
+// its columns: O(k²) per plot, O(n·k²) in all.
 #pragma once
 #include <map>
 #include <string>
@@ -34,6 +41,11 @@ namespace pw::lm {
 
 // Pivot tolerance, relative to the column's own sum of squares (for indicator columns, its count).
 inline constexpr double kAliasTolerance = 1e-10;
+
+// A leverage within this of 1 is taken as 1 (the plot alone determines its fitted value; residual 0).
+// R's lm.influence does the same at 10·DBL_EPSILON; G from sweeping carries more rounding than a QR
+// factor, hence the wider margin (a field design gives h = 1 or h ≤ 1 − 1/n, far from this).
+inline constexpr double kLeverageOneTolerance = 1e-9;
 
 struct Factor {
     std::string name;
@@ -77,6 +89,8 @@ struct Fit {
     std::vector<double> ginv;         // p × p row-major generalized inverse of X'X (σ² G = Var β)
     std::vector<double> fitted;       // per observation
     std::vector<double> residuals;    // per observation
+    std::vector<double> leverage;     // per observation: h_ii = x_i'G x_i, in [0, 1]; exactly 1 when within
+                                      // kLeverageOneTolerance of it
     std::vector<double> xtx;          // p × p row-major X'X (counts), for estimability
     std::vector<std::map<std::vector<int>, int>> cell_column;  // per term: level codes → column
 };
