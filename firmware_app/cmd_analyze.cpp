@@ -209,7 +209,8 @@ std::string render_json(const Subject& s, const AnalysisResult& r) {
     for (std::size_t i = 0; i < r.plots.size(); ++i) {
         const auto& p = r.plots[i];
         j["plots"].push_back({{"plot", p.plot}, {"treatment", p.treatment}, {"labels", p.labels}, {"y", opt(p.y)},
-                              {"fitted", p.fitted}, {"residual", opt(p.residual)}});
+                              {"fitted", p.fitted}, {"residual", opt(p.residual)}, {"leverage", opt(p.leverage)},
+                              {"standardized_residual", opt(p.standardized)}});
         if (p.y) continue;
         auto why = s.missing_why.find(i);
         auto blk = p.labels.find("block");
