@@ -285,7 +285,9 @@ std::string field_map_svg(const MapModel& m, const MapColouring& col) {
             fill = scale[static_cast<std::size_t>(k)].hex;
             light = scale[static_cast<std::size_t>(k)].light_text;
         }
-        o += fmt::format("<g class=\"plot{}{}\" data-plot=\"{}\"", cell.value ? "" : " missing",
+        const bool undefined = !cell.value && !cell.text.empty();  // observed, nothing to colour
+        o += fmt::format("<g class=\"plot{}{}\" data-plot=\"{}\"",
+                         cell.value ? "" : undefined ? " undefined" : " missing",
                          cell.outlier ? " outlier" : "", p.id);
         if (cell.value) o += fmt::format(" data-value=\"{}\"", full(*cell.value));
         o += fmt::format("><title>{}</title><rect x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" fill=\"{}\"/>",
@@ -298,7 +300,7 @@ std::string field_map_svg(const MapModel& m, const MapColouring& col) {
             o += fmt::format("<rect class=\"outline\" x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\"/>", px(r.x + 1.5),
                              px(r.y + 1.5), px(std::max(r.w - 3, 1.0)), px(std::max(r.h - 3, 1.0)));
         // The plot id above the value when both fit, else the value alone, else nothing (the title keeps both).
-        const std::string value = cell.value ? cell.text + (cell.outlier ? "!" : "") : "missing";
+        const std::string value = cell.value ? cell.text + (cell.outlier ? "!" : "") : undefined ? cell.text : "missing";
         const std::size_t chars = std::max(value.size(), p.label.size());
         const char* ink = light ? "light" : "dark";
         const double cx = r.x + r.w / 2, cy = r.y + r.h / 2;
@@ -383,7 +385,11 @@ std::string map_legend_svg(const MapColouring& col) {
                      "<rect x=\"{}\" y=\"{}\" width=\"16\" height=\"10\" class=\"flagged\"/>"
                      "<text class=\"note\" x=\"{}\" y=\"{}\">flagged, value kept</text>",
                      px(kx), px(top), px(kx + 3), px(top + 3), px(kx + 28), px(top + 12));
+    const bool undefined = std::any_of(col.cells.begin(), col.cells.end(),
+                                       [](const auto& c) { return !c.second.value && !c.second.text.empty(); });
     o += fmt::format("<text class=\"note\" x=\"{}\" y=\"{}\">hatched: missing</text>", px(kx), px(top + 32));
+    if (undefined)
+        o += fmt::format("<text class=\"note\" x=\"{}\" y=\"{}\">h=1: leverage 1, undefined</text>", px(kx), px(top + 50));
     o += "</svg>\n";
     return o;
 }

@@ -247,22 +247,27 @@ std::string residual_map(const TraitView& v, const MapModel& model, const Analys
     for (const PlotFit& f : r.plots) {
         const int id = std::atoi(f.plot.c_str());
         MapCell c;
-        const auto z = standardized_residual(r, f);
+        const auto z = f.standardized;
         if (z) {
             c.value = *z;
             c.text = fmt::format("{:+.1f}", *z);
             c.outlier = std::fabs(*z) > 3;
+        } else if (f.y) {
+            c.text = "h=1";  // observed with leverage 1: no standardized residual (hatched, not "missing")
         }
         if (v.flags.count(id))
             for (const PlotEvent* e : v.flags.at(id))
                 if (e->state == PlotState::Damaged) c.flagged = true;
-        c.title = z ? fmt::format("plot {}: standardized residual {:+.2f}", f.plot, *z)
-                    : fmt::format("plot {}: missing", f.plot);
+        c.title = z          ? fmt::format("plot {}: standardized residual {:+.2f}", f.plot, *z)
+                  : f.y ? fmt::format("plot {}: no standardized residual (leverage 1: the plot alone fixes its "
+                                      "fitted value)", f.plot)
+                        : fmt::format("plot {}: missing", f.plot);
         col.cells[id] = c;
     }
-    return fmt::format("<figure>{}{}<figcaption>Standardized residuals (residual ÷ √MS of the plot error): red below "
-                       "the model's prediction, blue above (ColorBrewer RdBu, 11 classes). A patch of one colour shows "
-                       "field variation the design did not take out.</figcaption></figure>\n",
+    return fmt::format("<figure>{}{}<figcaption>Standardized residuals (R's rstandard: residual ÷ √(MS of the plot "
+                       "error × (1 − leverage))): red below the model's prediction, blue above (ColorBrewer RdBu, 11 "
+                       "classes); beyond ±3 outlined. A patch of one colour shows field variation the design did not "
+                       "take out.</figcaption></figure>\n",
                        field_map_svg(model, col), map_legend_svg(col));
 }
 
@@ -372,12 +377,26 @@ std::string data_quality(const TraitView& v, const AnalysisResult* r) {
     int items = 0;
     if (r) {
         for (const PlotFit& f : r->plots) {
-            const auto z = standardized_residual(*r, f);
+            const auto& z = f.standardized;
             if (!z || std::fabs(*z) <= 3) continue;
             o += fmt::format("<li class=\"outlier\" data-plot=\"{}\">plot {} ({}): standardized residual {:+.2f}, value "
                              "{}, the model predicts {}</li>",
                              esc(f.plot), esc(f.plot), esc(v.lab(f.treatment)), *z, f.y ? num(*f.y) : "–",
                              num(f.fitted));
+            ++items;
+        }
+        std::vector<std::pair<int, std::string>> ids;  // observed plots with leverage 1, in plot order
+        for (const PlotFit& f : r->plots)
+            if (f.y && !f.standardized && f.leverage && *f.leverage == 1) ids.emplace_back(std::atoi(f.plot.c_str()), f.plot);
+        std::sort(ids.begin(), ids.end());
+        std::string lone;
+        for (const auto& id : ids) lone += (lone.empty() ? "" : ", ") + esc(id.second);
+        const std::size_t n_lone = ids.size();
+        if (n_lone > 0) {
+            o += fmt::format("<li class=\"leverage\">plot{} {}: leverage 1 (the plot alone fixes its fitted value, "
+                             "e.g. an entry in a single plot), residual 0, no standardized residual: cannot be "
+                             "flagged as an outlier</li>",
+                             n_lone == 1 ? "" : "s", lone);
             ++items;
         }
     }
@@ -426,7 +445,7 @@ std::string data_quality(const TraitView& v, const AnalysisResult* r) {
 std::string time_chart(const TraitView& v, const AnalysisResult& r) {
     std::vector<TimePoint> pts;
     for (const PlotFit& f : r.plots) {
-        const auto z = standardized_residual(r, f);
+        const auto& z = f.standardized;
         auto it = v.latest.find(std::atoi(f.plot.c_str()));
         if (!z || it == v.latest.end()) continue;
         const auto t = utc_seconds(it->second->obs.recorded_utc);
@@ -465,8 +484,11 @@ std::string plot_table(const TraitView& v, const AnalysisResult* r) {
             if (f != fits.end()) {
                 o += cell(f->second->fitted);
                 o += cell(f->second->residual, f->second->residual ? num(*f->second->residual) : "");
-                const auto z = standardized_residual(*r, *f->second);
-                o += cell(z, z ? fmt::format("{:+.2f}", *z) : "");
+                const auto& z = f->second->standardized;
+                o += z                     ? cell(z, fmt::format("{:+.2f}", *z))
+                     : f->second->residual ? std::string("<td class=\"num\" title=\"leverage 1: the plot alone fixes "
+                                                         "its fitted value\">none (h = 1)</td>")
+                                           : cell(z, "");
             } else {
                 o += "<td></td><td></td><td></td>";
             }
@@ -640,17 +662,23 @@ std::string methods(const ReportInput& in) {
         "ch. 2). The CV is 100·√MS(error)/grand mean; it is a contested measure of trial quality (Bowman 2001) and "
         "is shown beside the error mean square.</p>\n",
         design_name(d), design_model(d));
-    o += "<p>A standardized residual is the residual divided by √MS of the plot-level error (the semistudentized "
-         "residual of Kutner et al. 2005, §3.3); beyond ±3 a plot is worth a look in the field book. The same numbers "
-         "are printed by <code>plotwright analyze --json</code>; docs/analysis.md gives every formula with its "
-         "source.</p>\n";
+    o += "<p>A standardized residual is R's <code>rstandard</code>, the internally studentized residual "
+         "e<sub>i</sub> / √(MS<sub>error</sub>·(1 − h<sub>ii</sub>)): the residual divided by its own standard "
+         "error, with MS of the plot-level error and h<sub>ii</sub> the plot's leverage, the diagonal of the hat "
+         "matrix X(X′X)<sup>−</sup>X′ of the fitted model (Kutner et al. 2005, §10.2; Cook &amp; Weisberg 1982). "
+         "For split and strip plots that model holds the whole-plot (strip) strata as fixed block × factor terms. "
+         "A plot whose leverage is 1 (an entry in a single plot) has residual 0 and no standardized residual. A "
+         "plot with |standardized residual| &gt; 3 is flagged as an outlier, worth a look in the field book. The "
+         "same numbers, with each plot's leverage, are printed by <code>plotwright analyze --json</code>; "
+         "docs/analysis.md gives every formula with its source.</p>\n";
     o += "<p>Sources: K. A. Gomez and A. A. Gomez, <i>Statistical Procedures for Agricultural Research</i>, 2nd ed., "
          "Wiley, 1984. F. Yates, The analysis of replicated experiments when the field results are incomplete, "
          "<i>Empire Journal of Experimental Agriculture</i> 1 (1933). W. T. Federer, Augmented designs, <i>Hawaiian "
          "Planters' Record</i> 55 (1956). J. W. Tukey, The problem of multiple comparisons (1953). H.-P. Piepho, An "
          "algorithm for a letter-based representation of all-pairwise comparisons, <i>J. Comput. Graph. Stat.</i> 13 "
          "(2004). M. H. Kutner, C. J. Nachtsheim, J. Neter, W. Li, <i>Applied Linear Statistical Models</i>, 5th ed., "
-         "2005. Colour scales: C. A. Brewer, ColorBrewer (Harrower &amp; Brewer 2003).</p>\n";
+         "2005. R. D. Cook, S. Weisberg, <i>Residuals and Influence in Regression</i>, Chapman &amp; Hall, 1982. "
+         "Colour scales: C. A. Brewer, ColorBrewer (Harrower &amp; Brewer 2003).</p>\n";
     o += "</section>\n";
     return o;
 }
@@ -680,15 +708,6 @@ std::string conflicts_section(const ReportInput& in) {
 }
 
 }  // namespace
-
-std::optional<double> standardized_residual(const AnalysisResult& r, const PlotFit& p) {
-    if (!p.residual) return std::nullopt;
-    const AnalysisRow* err = nullptr;
-    for (const AnalysisRow& row : r.anova)
-        if (row.is_error) err = &row;
-    if (!err || !(err->ms > 0)) return std::nullopt;
-    return *p.residual / std::sqrt(err->ms);
-}
 
 std::string compose_report_html(const ReportInput& in) {
     const Labels lab(in.spec, in.blind);

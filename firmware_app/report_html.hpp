@@ -88,7 +88,9 @@ std::string means_chart_svg(const MeansChart& chart);
 // `text` what to print in the plot; `kind` picks the scale.
 struct MapCell {
     std::optional<double> value;
-    std::string text;             // value as recorded, or the residual; "" for none
+    std::string text;             // value as recorded, or the residual; "" for none. Without a value, a
+                                  // non-empty text marks an observed plot with nothing to colour (no
+                                  // standardized residual at leverage 1): hatched, printing the text
     bool outlier = false;         // |standardized residual| > 3: thick outline and "!"
     bool flagged = false;         // a flag that keeps the value: dashed inner outline
     std::string title;            // tooltip and accessible name
@@ -155,11 +157,6 @@ struct ReportInput {
     std::string program;                              // "plotwright 0.1.0"
     bool blind = false;                               // treatment labels replaced by T1..Tn (scorers' copy)
 };
-
-// Standardized residual of a plot: residual / √MS of the plot-level error row (the last error row), the
-// semistudentized residual of Kutner, Nachtsheim, Neter & Li, Applied Linear Statistical Models (2005),
-// §3.3. Empty for a missing plot or when that MS is 0.
-std::optional<double> standardized_residual(const AnalysisResult& r, const PlotFit& p);
 
 std::string compose_report_html(const ReportInput& input);
 

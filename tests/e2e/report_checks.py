@@ -9,8 +9,9 @@ CHECK is one of
             layout (plots.csv) is in each trait's field map
   json      every ANOVA row, grand mean, CV, SED and LSD in the page equals `plotwright analyze --json` for the
             same trait. Both are plotwright's: a CONSISTENCY check (one analysis, two printouts), not validation
-  r         the same ANOVA rows, and every plot's residual and standardized residual, equal R 4.2.2's aov run
-            live on the exported observations.csv (the outside reference; exit 77 when Rscript is missing);
+  r         the same ANOVA rows, and every plot's residual and standardized residual, equal R 4.2.2's aov,
+            residuals and rstandard run live on the exported observations.csv (the outside reference; exit 77
+            when Rscript is missing);
             for a yield of the spec, R computes the yield itself from the exported weight and moisture
   blind     `report --blind` shows no treatment label of the spec, and T1..Tn instead
   colours   the colour classes drawn in the legends are ColorBrewer's YlGnBu (9) and RdBu (11) as R's
@@ -225,9 +226,9 @@ tab <- summary(fit)[[1]]
 for (i in seq_len(nrow(tab)))
   cat("row", trimws(rownames(tab)[i]), tab$Df[i], sprintf("%%.17g", tab$`Sum Sq`[i]), sprintf("%%.17g", tab$`Mean Sq`[i]),
       sprintf("%%.17g", tab$`F value`[i]), sprintf("%%.17g", tab$`Pr(>F)`[i]), "\n", sep = "\t")
-s <- sqrt(deviance(fit) / df.residual(fit))
+e <- residuals(fit); z <- rstandard(fit)  # rstandard: e / (s * sqrt(1 - hatvalues)), NaN where h = 1
 for (i in seq_len(nrow(d)))
-  cat("plot", d$plot[i], sprintf("%%.17g", residuals(fit)[i]), sprintf("%%.17g", residuals(fit)[i] / s), "\n", sep = "\t")
+  cat("plot", d$plot[i], sprintf("%%.17g", e[rownames(d)[i]]), sprintf("%%.17g", z[rownames(d)[i]]), "\n", sep = "\t")
 '''
 
 
@@ -283,10 +284,11 @@ def check_r(pw, work):
                 continue
             cells = page.plots[trait][l[1]]
             residual, z = cells[5], cells[6]
-            if not close(residual, float(l[2]), TOL, resid_scale) or not close(z, float(l[3]), TOL, 1.0):
+            val = lambda s: None if s in ("NA", "NaN") else float(s)  # NA: left out by aov; NaN: leverage 1
+            if not close(residual, val(l[2]), TOL, resid_scale) or not close(z, val(l[3]), TOL, 1.0):
                 fail(f"{trait} plot {l[1]}: residual {residual!r} z {z!r}; R: {l[2]} {l[3]}")
             n += 1
-        print(f"ok: {trait}: residuals and standardized residuals of {n} plots = R's residuals(aov)/sigma")
+        print(f"ok: {trait}: residuals and standardized residuals of {n} plots = R's residuals(aov), rstandard(aov)")
 
 
 def check_blind(pw, work):

@@ -190,6 +190,26 @@ TEST_CASE("The map SVG has every plot of the layout, with its id", "[report][map
     CHECK(svg.find("url(#m-hatch)") != std::string::npos);
 }
 
+TEST_CASE("A plot with leverage 1 is hatched and marked h=1 on the residual map, not called missing",
+          "[report][map]") {
+    // Reference: docs/report.md, "Field map by standardized residual" (R's rstandard is NaN at h = 1).
+    const Trial t = hostile_trial();
+    const MapModel model = build_map_model(t.spec, t.layout, MapOptions{});
+    MapColouring col;
+    col.scale = MapScale::Diverging;
+    col.id = "r";
+    for (const auto& p : t.layout.plots) col.cells[p.id] = MapCell{0.4, "+0.4", false, false, ""};
+    const int lone = t.layout.plots.front().id;
+    col.cells[lone] = MapCell{std::nullopt, "h=1", false, false, "plot: leverage 1"};
+    const std::string svg = field_map_svg(model, col);
+    CHECK(svg.find("class=\"plot undefined\" data-plot=\"" + std::to_string(lone) + "\"") != std::string::npos);
+    CHECK(svg.find("plot missing") == std::string::npos);
+    CHECK(svg.find(">h=1</text>") != std::string::npos);
+    CHECK(map_legend_svg(col).find("h=1: leverage 1") != std::string::npos);
+    col.cells[lone] = MapCell{0.4, "+0.4", false, false, ""};
+    CHECK(map_legend_svg(col).find("h=1") == std::string::npos);  // named only when such a plot is drawn
+}
+
 TEST_CASE("The means chart puts each dot where the axis scale says", "[report][chart]") {
     MeansTable table;
     table.term = "treatment";
