@@ -13,6 +13,7 @@
 #include <cctype>
 #include <cmath>
 #include <limits>
+#include <sstream>
 #include <string_view>
 
 #include <fmt/format.h>
@@ -862,6 +863,49 @@ void read_yields(const Reader& r, const toml::table& root, TrialSpec& spec) {
 }
 
 }  // namespace
+
+std::vector<AddedTraitTable> parse_added_traits(const std::string& toml_text, const std::string& source_name,
+                                                const TrialSpec& trial) {
+    const Reader r(source_name);
+    toml::table root;
+    try {
+        root = toml::parse(toml_text, source_name);
+    } catch (const toml::parse_error& e) {
+        throw SpecError(r.where(e.source()), "", fmt::format("not valid TOML: {}", e.description()));
+    }
+    // Only traits: the rest of the trial (treatments, layout, flags, yields) is fixed once it is designed.
+    r.only_keys(Scope{root, ""}, {"traits"});
+    std::vector<TraitSpec> traits;
+    read_traits(r, root, traits);
+    const toml::array& a = *root.get("traits")->as_array();
+    std::vector<AddedTraitTable> out;
+    for (std::size_t i = 0; i < traits.size(); ++i) {
+        const toml::table& table = *a.get(i)->as_table();
+        const toml::node& name_node = *table.get("name");
+        const std::string key = fmt::format("traits[{}].name", i + 1);
+        std::vector<std::string_view> names;
+        for (const TraitSpec& t : trial.traits) names.push_back(t.name);
+        for (const TraitSpec& t : trial.traits)
+            if (t.name == traits[i].name)
+                r.fail(name_node, key,
+                       fmt::format("trial {} already has a trait named '{}' (its traits: {}); an added trait needs a "
+                                   "name of its own",
+                                   trial.code, t.name, join(names)));
+        for (const YieldSpec& y : trial.yields)
+            if (y.name == traits[i].name)
+                r.fail(name_node, key,
+                       fmt::format("'{}' is the name of a yield of trial {}; an added trait needs a name of its own",
+                                   y.name, trial.code));
+        // The table on its own, written by toml++ from the parsed values (comments are not kept: on a blind
+        // trial the text travels to the handhelds).
+        toml::table doc;
+        doc.insert("traits", toml::array{table});
+        std::ostringstream text;
+        text << toml::toml_formatter{doc};
+        out.push_back({std::move(traits[i]), text.str() + "\n"});
+    }
+    return out;
+}
 
 TrialSpec parse_trial_spec(const std::string& toml_text, const std::string& source_name) {
     const Reader r(source_name);

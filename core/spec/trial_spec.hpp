@@ -145,6 +145,19 @@ struct TrialSpec {
 // Throws SpecError naming the line and key of the first problem found.
 TrialSpec parse_trial_spec(const std::string& toml_text, const std::string& source_name);
 
+// A trait added to a running trial (`plotwright trait add`, docs/station.md): one [[traits]] table of a file
+// that holds [[traits]] tables and nothing else, read by the spec's own trait reader.
+struct AddedTraitTable {
+    TraitSpec trait;
+    std::string toml;   // the table alone as TOML: "[[traits]]" and its keys with their values as given,
+                        // without comments; parse_added_traits reads it back to the same trait
+};
+
+// Parses the [[traits]] tables of `toml_text` with the same rules and messages as the spec's traits, and
+// refuses a name that is already a trait or a yield of `trial`. Throws SpecError naming FILE:LINE and key.
+std::vector<AddedTraitTable> parse_added_traits(const std::string& toml_text, const std::string& source_name,
+                                                const TrialSpec& trial);
+
 // The accepted values of trial.design, in the order docs/spec.md lists them.
 const std::vector<std::string>& design_names();
 
