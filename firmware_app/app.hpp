@@ -33,6 +33,7 @@ void add_sync_command(CLI::App& app);      // sync export|import: bundles betwee
 void add_conflicts_command(CLI::App& app); // conflicts: values that disagree after sync (docs/station.md)
 void add_resolve_command(CLI::App& app);   // resolve: settle one conflict with a value and a reason
 void add_audit_command(CLI::App& app);     // audit: verify the audit log's hash chain
+void add_trait_command(CLI::App& app);     // trait add|list: traits added to a running trial (docs/station.md)
 void add_report_command(CLI::App& app);   // report: the trial report, one HTML file (docs/report.md)
 
 }  // namespace pw::app

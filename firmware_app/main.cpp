@@ -26,6 +26,7 @@ int main(int argc, char** argv) {
     pw::app::add_conflicts_command(app);
     pw::app::add_resolve_command(app);
     pw::app::add_audit_command(app);
+    pw::app::add_trait_command(app);
     pw::app::add_report_command(app);
     pw::app::add_demo_command(app);
     try {

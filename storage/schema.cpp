@@ -377,12 +377,71 @@ HAVING count(DISTINCT o.value) > 1;
 #undef PW_DEVICE_CHECK
 #undef PW_APPEND_ONLY
 
+// Migration 6: traits added to a running trial at the station (`plotwright trait add`; docs/station.md,
+// docs/sync.md). The spec text stays as given; each added trait is a row of trait_addition (its [[traits]]
+// table as TOML, who, when, its place after the spec's traits) and a row of trait, which observations
+// reference. A trait row inserted once the trial has plots must have its trait_addition row (same name and
+// place). trait_addition crosses to the handhelds in the station's bundles (a changeset of INSERTs keyed by
+// the name), so its columns are part of the bundle format. The audit log is rebuilt with the action
+// 'trait' allowed: a CHECK cannot be altered in place, so the entries are copied unchanged (same ids, text
+// and hashes, so the chain holds) into the new table, and the old one is dropped (DROP TABLE fires no
+// DELETE trigger; https://www.sqlite.org/lang_droptable.html) - the procedure of
+// https://www.sqlite.org/lang_altertable.html#otheralter.
+#define PW_UTC_CHECK(col)                                                                        \
+    "CHECK (" col " GLOB '[0-9][0-9][0-9][0-9]-[0-9][0-9]-[0-9][0-9]T[0-9][0-9]:[0-9][0-9]:[0-9][0-9]*Z'" \
+    " AND julianday(" col ") IS NOT NULL)"
+#define PW_HEX64_CHECK(col) "CHECK (length(" col ") = 64 AND " col " NOT GLOB '*[^0-9a-f]*')"
+#define PW_APPEND_ONLY(table, what)                                                                       \
+    "CREATE TRIGGER " table "_no_update BEFORE UPDATE ON " table                                           \
+    " BEGIN SELECT RAISE(ABORT, '" what "'); END;\n"                                                          \
+    "CREATE TRIGGER " table "_no_delete BEFORE DELETE ON " table                                           \
+    " BEGIN SELECT RAISE(ABORT, '" what "'); END;\n"
+
+constexpr const char* kMigration6 = R"sql(
+CREATE TABLE trait_addition (
+    name            TEXT PRIMARY KEY CHECK (name GLOB '[a-z]*' AND name NOT GLOB '*[^a-z0-9_]*'),
+    position        INTEGER NOT NULL UNIQUE CHECK (position >= 1),
+    definition      TEXT NOT NULL CHECK (definition <> ''),
+    added_utc       TEXT NOT NULL )sql" PW_UTC_CHECK("added_utc") R"sql(,
+    added_by        TEXT NOT NULL CHECK (added_by <> '')
+) STRICT;
+
+-- Once the trial has plots, a new trait row is an added trait: its trait_addition row comes first.
+CREATE TRIGGER trait_added_with_its_row
+BEFORE INSERT ON trait
+WHEN EXISTS (SELECT 1 FROM plot) AND NOT EXISTS (
+    SELECT 1 FROM trait_addition AS a WHERE a.name = NEW.name AND a.position = NEW.position)
+BEGIN
+    SELECT RAISE(ABORT, 'a trait is added to a running trial with its trait_addition row (plotwright trait add)');
+END;
+
+CREATE TABLE audit_log_6 (
+    id              INTEGER PRIMARY KEY CHECK (id >= 1),
+    recorded_utc    TEXT NOT NULL )sql" PW_UTC_CHECK("recorded_utc") R"sql(,
+    action          TEXT NOT NULL CHECK (action IN ('provision', 'import', 'export', 'resolve', 'correct', 'trait')),
+    detail          TEXT NOT NULL CHECK (json_valid(detail) AND json_type(detail) = 'object'),
+    prev_sha256     TEXT NOT NULL )sql" PW_HEX64_CHECK("prev_sha256") R"sql(,
+    sha256          TEXT NOT NULL )sql" PW_HEX64_CHECK("sha256") R"sql(
+) STRICT;
+INSERT INTO audit_log_6 (id, recorded_utc, action, detail, prev_sha256, sha256)
+    SELECT id, recorded_utc, action, detail, prev_sha256, sha256 FROM audit_log ORDER BY id;
+DROP TABLE audit_log;
+ALTER TABLE audit_log_6 RENAME TO audit_log;
+
+)sql" PW_APPEND_ONLY("trait_addition", "added traits are append-only")
+      PW_APPEND_ONLY("audit_log", "audit log entries are append-only");
+
+#undef PW_UTC_CHECK
+#undef PW_HEX64_CHECK
+#undef PW_APPEND_ONLY
+
 constexpr Migration kMigrations[] = {
     {1, kMigration1},
     {2, kMigration2},
     {3, kMigration3},
     {4, kMigration4},
     {5, kMigration5},
+    {6, kMigration6},
 };
 
 }  // namespace

@@ -7,7 +7,8 @@
 //     https://www.sqlite.org/pragma.html#pragma_synchronous).
 //   - Every write is one BEGIN IMMEDIATE ... COMMIT; a refused write leaves the database as it was.
 //   - The spec text is the single definition of the trial: it is re-parsed on every open and checked
-//     against the treatment and trait tables it was stored with.
+//     against the treatment and trait tables it was stored with; traits added at the station since
+//     (trait_addition, storage/station_traits.hpp) follow the spec's, each read from its own definition.
 //   - uint64 seeds are stored as decimal TEXT (SQLite's INTEGER is a signed 64-bit value).
 //   - A plot event names one of the trial's flags (TrialSpec::flags) and its state says what that flag
 //     means for the data; current_observations() leaves out withdrawals (empty values, an undo back to
@@ -30,6 +31,7 @@
 #include "storage/certificate.hpp"
 #include "storage/schema.hpp"
 #include "storage/sqlite_statement.hpp"
+#include "storage/station_traits.hpp"
 
 #ifndef PW_APP_VERSION
 #error "PW_APP_VERSION must be defined by the build (storage/CMakeLists.txt)"
@@ -207,6 +209,7 @@ StoredTrial load_trial(sqlite3* db, const std::string& path) {
         throw StoreError(path + ": trial.design_columns: expected a JSON array of strings (" + e.what() + ")");
     }
     t.spec = parse_stored_spec(t.spec_toml, t.spec_source, path);
+    append_added_traits(db, t.spec, path);  // traits added at the station, after the spec's (migration 6)
 
     TrialSpec tables;
     {
@@ -432,6 +435,8 @@ Store Store::open(const std::string& path) {
 }
 
 const StoredTrial& Store::trial() const { return impl_->trial; }
+
+void Store::reload_trial() { impl_->trial = load_trial(impl_->db.get(), impl_->path); }
 
 sqlite3* Store::handle() const { return impl_->db.get(); }
 

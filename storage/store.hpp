@@ -19,7 +19,7 @@ struct sqlite3;
 namespace pw {
 
 struct StoredTrial {
-    TrialSpec spec;              // parsed from spec_toml
+    TrialSpec spec;              // parsed from spec_toml; then the traits added since (migration 6)
     std::string spec_toml;       // the spec text exactly as given
     std::string spec_source;     // file name it came from
     std::string created_utc;
@@ -47,6 +47,8 @@ public:
     ~Store() override;
 
     const StoredTrial& trial() const;
+    // Reads the trial definition again, after traits were added to it (storage/station_traits.hpp).
+    void reload_trial();
 
     // RecordSink: each call is its own committed transaction.
     std::int64_t add_observation(const NewObservation& obs) override;
