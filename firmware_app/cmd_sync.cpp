@@ -1,6 +1,7 @@
 // `plotwright sync`: bundles between handhelds and the station (storage/sync.hpp; docs/sync.md, docs/station.md).
 //   sync export --db DEVICE.db --out FILE                  what the handheld recorded since its last export
-//   sync export --db STATION --for DEVICE --out FILE       plot states from the station, for one handheld
+//   sync export --db STATION --for DEVICE --out FILE       plot states and added traits from the station, for
+//                                                          one handheld
 //   sync import --db DB FILE...                            each bundle in its own transaction
 // Import goes on after a refused file and exits 1 at the end if any was refused; a gap in a device's
 // sequence numbers is a note, not a failure.
@@ -39,7 +40,7 @@ void add_sync_command(CLI::App& app) {
     sync->require_subcommand(1);
 
     auto* ex = sync->add_subcommand("export", "Write a bundle: a handheld's new records, or (--for) the station's plot "
-                                              "states for one handheld");
+                                              "states and added traits for one handheld");
     ex->add_option("--db", o->db, "Handheld database (or the station's, with --for)")->required()->check(CLI::ExistingFile);
     ex->add_option("--out", o->out, "Bundle file to write (must not exist)")->required();
     ex->add_option("--for", o->for_device, "At the station: the handheld the bundle is for");
@@ -53,7 +54,7 @@ void add_sync_command(CLI::App& app) {
         if (o->json) {
             std::cout << nlohmann::json{{"file", o->out}, {"maker", to_string(r.header.kind)}, {"device", r.header.device},
                                         {"seq", r.header.seq}, {"observations", r.observations}, {"events", r.events},
-                                        {"bytes", r.bytes.size()}}
+                                        {"traits", r.traits}, {"bytes", r.bytes.size()}}
                              .dump(2)
                       << "\n";
             return;
@@ -62,8 +63,8 @@ void add_sync_command(CLI::App& app) {
             std::cout << fmt::format("{}: bundle {} of device {}: {} observations, {} plot events ({} bytes)\n", o->out,
                                      r.header.seq, r.header.device, r.observations, r.events, r.bytes.size());
         else
-            std::cout << fmt::format("{}: station bundle {} for device {}: {} plot events ({} bytes)\n", o->out,
-                                     r.header.seq, r.header.device, r.events, r.bytes.size());
+            std::cout << fmt::format("{}: station bundle {} for device {}: {} plot events, {} added traits ({} bytes)\n",
+                                     o->out, r.header.seq, r.header.device, r.events, r.traits, r.bytes.size());
     });
 
     auto* im = sync->add_subcommand("import", "Apply bundles, each in its own transaction; a refused one changes nothing");
@@ -86,6 +87,7 @@ void add_sync_command(CLI::App& app) {
                                  {"already_imported", r.already_imported},
                                  {"observations", r.observations},
                                  {"events", r.events},
+                                 {"traits", r.traits},
                                  {"duplicates", r.duplicates},
                                  {"pending", r.pending},
                                  {"missing_seqs", r.missing_seqs}};
@@ -97,9 +99,12 @@ void add_sync_command(CLI::App& app) {
                         : fmt::format("station bundle {} for {}", r.header.seq, r.header.device);
                 if (r.already_imported)
                     std::cout << fmt::format("{}: {} was imported before: nothing changed\n", file, which);
-                else
+                else if (r.header.kind == BundleKind::FromDevice)
                     std::cout << fmt::format("{}: {}: {} new observations, {} new plot events, {} already held\n", file,
                                              which, r.observations, r.events, r.duplicates);
+                else
+                    std::cout << fmt::format("{}: {}: {} new plot events, {} new traits, {} already held\n", file, which,
+                                             r.events, r.traits, r.duplicates);
                 if (r.pending > 0)
                     std::cerr << fmt::format("note: {} received corrections wait for the observations they correct "
                                              "(an earlier bundle not yet imported)\n",

@@ -7,8 +7,8 @@
 //     identical row is omitted (the same bundle, or the same row in two bundles); any other conflict,
 //     constraint or foreign-key failure aborts the bundle.
 //   - A payload is read completely (check_bundle_payload) before anything is written: only INSERTs into
-//     sync_observation / sync_plot_event (station to device: sync_plot_event only), with the columns this
-//     program writes, of the origin the header names.
+//     sync_observation / sync_plot_event (station to device: sync_plot_event and trait_addition), with the
+//     columns this program writes, of the origin the header names.
 //   - An import is one transaction: the changeset, the rows made current, the sync_bundle record and the
 //     audit entry commit together or not at all.
 //   - A received correction is applied only once the observation it supersedes has been received; until
@@ -34,6 +34,7 @@
 #include "storage/audit_log.hpp"
 #include "storage/certificate.hpp"
 #include "storage/sqlite_statement.hpp"
+#include "storage/station_traits.hpp"
 #include "storage/store.hpp"
 #include "storage/sync_conflicts.hpp"
 
@@ -47,6 +48,8 @@ using sql::WriteTransaction;
 // the primary key (origin, origin_id).
 constexpr int kObservationColumns = 11;
 constexpr int kEventColumns = 9;
+// trait_addition (migration 6), keyed by its first column (name): only in the station's bundles.
+constexpr int kTraitColumns = 5;
 
 // ---- session helpers ------------------------------------------------------------------------------------
 
@@ -163,8 +166,17 @@ int on_conflict(void* p, int type, sqlite3_changeset_iter* it) {
             same = same_value(mine, theirs);
         }
         if (same) {
-            ++(std::strcmp(table, "sync_observation") == 0 ? ctx->duplicate_observations : ctx->duplicate_events);
+            if (std::strcmp(table, "trait_addition") != 0)  // added traits: counted by import_bundle
+                ++(std::strcmp(table, "sync_observation") == 0 ? ctx->duplicate_observations : ctx->duplicate_events);
             return SQLITE_CHANGESET_OMIT;
+        }
+        if (std::strcmp(table, "trait_addition") == 0) {
+            sqlite3_value* name = nullptr;
+            sqlite3changeset_new(it, 0, &name);
+            ctx->error = fmt::format("the added trait '{}' was received before with another definition; the one held "
+                                     "is kept",
+                                     value_text(name));
+            return SQLITE_CHANGESET_ABORT;
         }
         sqlite3_value* origin = nullptr;
         sqlite3_value* id = nullptr;
@@ -232,17 +244,21 @@ std::string changeset_framing_fault(std::string_view p) {
         const char op = p[i++];
         if (op == 'T') {
             std::uint64_t n = 0;
-            if (!varint(n) || (n != std::uint64_t{kObservationColumns} && n != std::uint64_t{kEventColumns})) return "has a table of an unknown shape";
+            if (!varint(n) || (n != std::uint64_t{kObservationColumns} && n != std::uint64_t{kEventColumns} &&
+                               n != std::uint64_t{kTraitColumns}))
+                return "has a table of an unknown shape";
             ncol = static_cast<int>(n);
             if (p.size() - i < n) return "ends inside a table header";
+            const int keys = ncol == kTraitColumns ? 1 : 2;  // (name) or (origin, origin_id)
             for (int c = 0; c < ncol; ++c)
-                if (p[i + static_cast<std::size_t>(c)] != (c < 2 ? c + 1 : 0)) return "keys a table otherwise than by (origin, origin_id)";
+                if (p[i + static_cast<std::size_t>(c)] != (c < keys ? c + 1 : 0)) return "keys a table otherwise than this program does";
             i += n;
             const std::size_t end = p.find('\0', i);
             if (end == std::string_view::npos) return "ends inside a table name";
             const std::string_view name = p.substr(i, end - i);
             if (!((name == "sync_observation" && ncol == kObservationColumns) ||
-                  (name == "sync_plot_event" && ncol == kEventColumns)))
+                  (name == "sync_plot_event" && ncol == kEventColumns) ||
+                  (name == "trait_addition" && ncol == kTraitColumns)))
                 return "names a table a bundle never changes";
             i = end + 1;
             continue;
@@ -420,6 +436,11 @@ ExportResult export_station_bundle(Store& store, const std::string& device, cons
               "NOT NULL, state TEXT NOT NULL, reason TEXT NOT NULL, recorded_utc TEXT NOT NULL, device TEXT NOT NULL, "
               "observer TEXT NOT NULL, flag TEXT NOT NULL, PRIMARY KEY (origin, origin_id))",
               "making the outbox");
+    // The same columns and key as main.trait_addition (migration 6): the changeset names them.
+    sql::exec(db,
+              "CREATE TABLE pw_outbox.trait_addition (name TEXT PRIMARY KEY NOT NULL, position INTEGER NOT NULL, "
+              "definition TEXT NOT NULL, added_utc TEXT NOT NULL, added_by TEXT NOT NULL)",
+              "making the outbox");
     ExportResult r;
     {
         WriteTransaction tx(db);
@@ -431,7 +452,7 @@ ExportResult export_station_bundle(Store& store, const std::string& device, cons
         r.header.created_utc = now;
         std::string payload;
         {
-            Session s = open_session(db, "pw_outbox", {"sync_plot_event"});
+            Session s = open_session(db, "pw_outbox", {"sync_plot_event", "trait_addition"});
             // Every plot event of the station the handheld did not make itself: the station's own (origin
             // "station", their id) and those received from other handhelds (their origin key).
             Statement copy(db,
@@ -442,18 +463,27 @@ ExportResult export_station_bundle(Store& store, const std::string& device, cons
             copy.bind(1, kStationOrigin).bind(2, device);
             copy.run();
             r.events = static_cast<std::size_t>(sqlite3_changes(db));
+            // Every trait added at the station (only the station adds traits): sending all of them each time
+            // keeps the bundle idempotent, as for the events.
+            Statement traits(db,
+                             "INSERT INTO pw_outbox.trait_addition (name, position, definition, added_utc, added_by) "
+                             "SELECT name, position, definition, added_utc, added_by FROM main.trait_addition "
+                             "ORDER BY position");
+            traits.run();
+            r.traits = static_cast<std::size_t>(sqlite3_changes(db));
             payload = take_changeset(db, s.get());
         }
         r.bytes = encode_bundle(r.header, payload);
         record_bundle(db, r.header, checksum_of(r.bytes), now, 0, r.events);
         append_audit(db, now, "export",
-                     nlohmann::json{{"for", device}, {"seq", r.header.seq}, {"events", r.events},
+                     nlohmann::json{{"for", device}, {"seq", r.header.seq}, {"events", r.events}, {"traits", r.traits},
                                     {"sha256", checksum_of(r.bytes)}}
                          .dump());
         deliver(r.bytes);
         tx.commit();
     }
     sql::exec(db, "DROP TABLE pw_outbox.sync_plot_event", "clearing the outbox");
+    sql::exec(db, "DROP TABLE pw_outbox.trait_addition", "clearing the outbox");
     return r;
 }
 
@@ -554,6 +584,7 @@ ProvisionResult provision_device(Store& station, const std::string& device, cons
     Layout layout = t.layout;
     if (r.blind) layout.notes.clear();
     const std::string digest = trial_digest(station);
+    const std::vector<AddedTrait> added = added_traits(station);
     bool made = false;
     try {
         {
@@ -566,6 +597,8 @@ ProvisionResult provision_device(Store& station, const std::string& device, cons
                          "VALUES (1, ?1, ?2, ?3, ?4)");
             id.bind(1, device).bind(2, digest).bind(3, r.blind ? 1 : 0).bind(4, now_utc);
             id.run();
+            // Traits added at the station so far, as the station's bundles carry them (migration 6).
+            for (const AddedTrait& a : added) insert_added_trait(hdb, a);
             append_audit(hdb, now_utc, "provision",
                          nlohmann::json{{"device", device}, {"trial", t.spec.code}, {"trial_digest", digest},
                                         {"blind", r.blind}}
@@ -590,7 +623,7 @@ ProvisionResult provision_device(Store& station, const std::string& device, cons
         throw;
     }
     r.plots = layout.plots.size();
-    r.traits = spec.traits.size();
+    r.traits = spec.traits.size() + added.size();
     return r;
 }
 
@@ -634,6 +667,24 @@ PayloadSummary check_bundle_payload(const Bundle& bundle, const std::string& sou
         int ncol = 0, op = 0, indirect = 0;
         if (sqlite3changeset_op(it, &table, &ncol, &op, &indirect) != SQLITE_OK || !table) refuse("is damaged");
         const std::string name = table;
+        if (name == "trait_addition" && !from_device) {  // a trait added at the station (migration 6)
+            if (op != SQLITE_INSERT) refuse("updates or deletes trait_addition rows (bundles only add rows)");
+            if (ncol != kTraitColumns)
+                refuse(fmt::format("has trait_addition rows of {} columns, this program's have {} (made by another "
+                                   "version?)",
+                                   ncol, kTraitColumns));
+            unsigned char* pk = nullptr;
+            int npk = 0;
+            if (sqlite3changeset_pk(it, &pk, &npk) != SQLITE_OK || !pk || pk[0] == 0)
+                refuse("keys trait_addition rows otherwise than by name");
+            for (int i = 1; i < npk; ++i)
+                if (pk[i]) refuse("keys trait_addition rows otherwise than by name");
+            sqlite3_value* trait = nullptr;
+            if (sqlite3changeset_new(it, 0, &trait) != SQLITE_OK || !trait || sqlite3_value_type(trait) != SQLITE_TEXT)
+                refuse("has a trait_addition row without a name");
+            ++sum.traits;
+            continue;
+        }
         const bool obs = name == "sync_observation";
         if (!(obs && from_device) && name != "sync_plot_event")
             refuse(fmt::format("changes table '{}', which a bundle from the {} never does", name,
@@ -721,10 +772,15 @@ ImportResult import_bundle(Store& store, std::string_view bytes, const std::stri
     WriteTransaction tx(db);
     const int changes_before = sqlite3_total_changes(db);
     const auto [dup_obs, dup_ev] = apply_payload(db, b.payload, source);
-    r.duplicates = dup_obs + dup_ev;
+    // On a handheld: traits added at the station, new here, become traits of the trial (every trait_addition
+    // row received before has its trait row, so those without one are this bundle's new ones).
+    r.traits = me ? materialize_added_traits(db, t.spec, source) : 0;
+    r.duplicates = dup_obs + dup_ev + (sum.traits - r.traits);
     r.observations = sum.observations - dup_obs;
     r.events = sum.events - dup_ev;
-    if (static_cast<std::size_t>(sqlite3_total_changes(db) - changes_before) != r.observations + r.events)
+    // Each new added trait is two rows: its trait_addition row and its trait row.
+    if (static_cast<std::size_t>(sqlite3_total_changes(db) - changes_before) !=
+        r.observations + r.events + 2 * r.traits)
         throw InputError(fmt::format("{}: refused, nothing imported: {} rows in the payload, {} applied and {} already held",
                                      source, sum.observations + sum.events, sqlite3_total_changes(db) - changes_before,
                                      r.duplicates));
@@ -735,18 +791,19 @@ ImportResult import_bundle(Store& store, std::string_view bytes, const std::stri
     r.pending = m.pending;
     materialize_events(db, self);
     record_bundle(db, b.header, b.checksum_hex, now_utc, r.observations, r.events);
-    append_audit(db, now_utc, "import",
-                 nlohmann::json{{"file", std::filesystem::path(source).filename().string()},
-                                {"maker", maker},
-                                {"device", b.header.device},
-                                {"seq", b.header.seq},
-                                {"sha256", b.checksum_hex},
-                                {"observations", r.observations},
-                                {"events", r.events},
-                                {"duplicates", r.duplicates},
-                                {"pending", r.pending}}
-                     .dump());
+    nlohmann::json detail{{"file", std::filesystem::path(source).filename().string()},
+                          {"maker", maker},
+                          {"device", b.header.device},
+                          {"seq", b.header.seq},
+                          {"sha256", b.checksum_hex},
+                          {"observations", r.observations},
+                          {"events", r.events},
+                          {"duplicates", r.duplicates},
+                          {"pending", r.pending}};
+    if (me) detail["traits"] = r.traits;  // the station's bundle: traits added at the station, new here
+    append_audit(db, now_utc, "import", detail.dump());
     tx.commit();
+    if (r.traits > 0) store.reload_trial();
     r.missing_seqs = missing_seqs(db, maker, b.header.device);
     return r;
 }

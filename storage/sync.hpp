@@ -8,7 +8,8 @@
 //               sync_plot_event under its own name while an SQLite session (sqlite3session_*) records
 //               the inserts; the session's changeset is the bundle's payload (core/sync/bundle.hpp).
 //               The station's bundle for a handheld is made the same way in an attached in-memory
-//               database: every plot event the handheld did not make.
+//               database: every plot event the handheld did not make, and every trait added at the
+//               station (trait_addition, storage/station_traits.hpp), which the handheld then records.
 //   import      the receiving side checks the bundle (checksum, trial, device, sequence) and applies the
 //               changeset with sqlite3changeset_apply to its own sync_* tables; the conflict handler
 //               never replaces a row (an identical row is skipped, a different one refuses the bundle).
@@ -72,6 +73,7 @@ struct ExportResult {
     BundleHeader header;
     std::size_t observations = 0;
     std::size_t events = 0;
+    std::size_t traits = 0;   // the station's bundle: traits added at the station (storage/station_traits.hpp)
     std::string bytes;   // the whole bundle
 };
 // A handheld's bundle of everything it recorded since its last export (`for_device` empty), or the
@@ -87,6 +89,7 @@ struct ImportResult {
     bool already_imported = false;        // the same bundle came before: nothing changed
     std::size_t observations = 0;         // rows of the bundle new to this database
     std::size_t events = 0;
+    std::size_t traits = 0;               // on a handheld: traits added at the station, new here
     std::size_t duplicates = 0;           // rows of the bundle this database already held, identical
     std::size_t applied = 0;              // observations that became current data in this import
     std::size_t pending = 0;              // received observations still waiting for the one they correct
@@ -102,6 +105,7 @@ ImportResult import_bundle(Store& store, std::string_view bytes, const std::stri
 struct PayloadSummary {
     std::size_t observations = 0;
     std::size_t events = 0;
+    std::size_t traits = 0;   // trait_addition rows (the station's bundles only)
 };
 PayloadSummary check_bundle_payload(const Bundle& bundle, const std::string& source);
 

@@ -30,7 +30,7 @@ inline constexpr std::uint64_t kBundleMaxPayload = std::uint64_t{1} << 30;
 // Who made the bundle.
 enum class BundleKind : std::uint8_t {
     FromDevice = 1,   // a handheld's new records, for the station
-    FromStation = 2,  // plot states from the station, for one handheld
+    FromStation = 2,  // plot states and added traits from the station, for one handheld
 };
 const char* to_string(BundleKind k);  // "device", "station"
 
