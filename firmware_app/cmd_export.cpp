@@ -1,5 +1,5 @@
 // `plotwright export`: the current observations, one per row, for spreadsheets and other tools (csv); or the
-// plots as GeoJSON polygons with their latest observations, for GIS tools (geojson, storage/export_geojson.hpp);
+// plots as GeoJSON polygons with their resolved values, for GIS tools (geojson, storage/export_geojson.hpp);
 // or the resolved values for analysis elsewhere: csv-long, csv-wide, json (storage/export_tables.hpp). The
 // observation exports leave plot/traits in conflict out and say how many on stderr (docs/station.md).
 #include <CLI/CLI.hpp>
@@ -26,18 +26,17 @@ void add_export_command(CLI::App& app) {
     auto* cmd = app.add_subcommand("export", "Export the current observations (CSV, RFC 4180, one per row) or the plots (GeoJSON, RFC 7946)");
     cmd->add_option("--db", o->db, "Trial database")->required()->check(CLI::ExistingFile);
     cmd->add_option("--format", o->format,
-                    "csv (observations), geojson (plots with their latest observations), or the resolved values: "
+                    "csv (observations), geojson (plots with their resolved values), or the resolved values: "
                     "csv-long (one per row), csv-wide (one plot per row), json")
         ->check(CLI::IsMember({"csv", "geojson", "csv-long", "csv-wide", "json"}));
     cmd->add_option("--out", o->out, "Write to this file instead of stdout");
     cmd->callback([o] {
         Store store = Store::open(o->db);
-        if (o->format == "geojson") {
-            emit(o->out, export_plots_geojson(store));
-            return;
-        }
         TableExport t;
-        if (o->format == "csv") {
+        if (o->format == "geojson") {
+            t.text = export_plots_geojson(store);
+            t.unresolved = count_unresolved_conflicts(store);
+        } else if (o->format == "csv") {
             t.text = export_observations_csv(store);
             t.unresolved = unresolved_conflicts(store).size();
         } else {

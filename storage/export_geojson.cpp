@@ -1,4 +1,5 @@
 // GeoJSON export of the plots (see export_geojson.hpp for the document's shape and RFC 7946 rules kept).
+// The values are the resolved ones (storage/sync_conflicts.hpp), like every other export's.
 #include "storage/export_geojson.hpp"
 
 #include <nlohmann/json.hpp>
@@ -12,6 +13,7 @@
 #include "core/field/geodesy.hpp"
 #include "core/field/stakeout.hpp"
 #include "storage/store.hpp"
+#include "storage/sync_conflicts.hpp"
 
 namespace pw {
 namespace {
@@ -37,19 +39,11 @@ std::string export_plots_geojson(const Store& store) {
     const FieldGeoreference geo(LatLon{*spec.field.origin.lat_deg, *spec.field.origin.lon_deg},
                                 spec.field.x_bearing_deg);
 
-    // The latest current observation of each (plot, trait).
-    std::map<std::pair<int, std::string>, const NewObservation*> latest;
-    std::map<std::pair<int, std::string>, std::int64_t> latest_id;
-    const std::vector<ObservationRow> rows = store.current_observations();
-    for (const ObservationRow& r : rows) {
-        const auto key = std::make_pair(r.record.obs.plot, r.record.obs.trait);
-        auto it = latest.find(key);
-        if (it == latest.end() || std::make_pair(it->second->recorded_utc, latest_id[key]) <
-                                      std::make_pair(r.record.obs.recorded_utc, r.record.id)) {
-            latest[key] = &r.record.obs;
-            latest_id[key] = r.record.id;
-        }
-    }
+    // The resolved value of each (plot, trait): one value in force, or several equal ones; a plot/trait in
+    // unresolved conflict has none here (as in csv-wide) and is listed in the document's "conflicts".
+    const ResolvedObservations res = resolved_observations(store);
+    std::map<std::pair<int, std::string>, const NewObservation*> resolved;
+    for (const ObservationRow& r : res.rows) resolved[{r.record.obs.plot, r.record.obs.trait}] = &r.record.obs;
     const std::set<std::string> fixed = {"plot", "block", "row", "col", "walk_order", "treatment"};
 
     const std::vector<PlotCorner> corners = plot_corners(trial.layout, spec.field.x_bearing_deg);
@@ -77,8 +71,8 @@ std::string export_plots_geojson(const Store& store) {
         props["walk_order"] = p.walk_order;
         if (!spec.blind) props["treatment"] = spec.treatments.at(static_cast<std::size_t>(p.treatment)).label;
         for (const TraitSpec& t : spec.traits) {
-            auto it = latest.find({p.id, t.name});
-            if (it == latest.end()) continue;
+            auto it = resolved.find({p.id, t.name});
+            if (it == resolved.end()) continue;
             props[fixed.count(t.name) ? "trait_" + t.name : t.name] = observation_value(*it->second);
         }
         features.push_back({{"type", "Feature"},
@@ -86,7 +80,15 @@ std::string export_plots_geojson(const Store& store) {
                             {"properties", props},
                             {"geometry", {{"type", "Polygon"}, {"coordinates", nlohmann::ordered_json::array({ring})}}}});
     }
-    nlohmann::ordered_json doc = {{"type", "FeatureCollection"}, {"bbox", {west, south, east, north}}, {"features", features}};
+    // Foreign members (RFC 7946 §6.1), as the json export names them: how many plot/traits in conflict were
+    // left out, and which.
+    nlohmann::ordered_json conflicts = nlohmann::ordered_json::array();
+    for (const Conflict& c : res.conflicts) conflicts.push_back({{"plot", c.plot}, {"trait", c.trait}});
+    nlohmann::ordered_json doc = {{"type", "FeatureCollection"},
+                                  {"bbox", {west, south, east, north}},
+                                  {"unresolved_conflicts", res.conflicts.size()},
+                                  {"conflicts", conflicts},
+                                  {"features", features}};
     return doc.dump(1) + "\n";
 }
 
