@@ -23,16 +23,26 @@ Cases:
             `analyze`; after `resolve` it is in
   audit     `audit` passes, then an entry edited with the sqlite3 shell makes it fail at that entry (exit 1)
   blind     a blind trial's handheld file holds no treatment label; it records and exports with codes
+  traits    the station adds two traits (`trait add`): the spec text kept as the file gave it, each definition
+            read back by Python's tomllib equal to the file's table; refused adds (a name the trial has, a bad
+            kind, on a handheld) name file:line and key, exit 1, the file's sha256sum unchanged; the station's
+            bundle brings them to a handheld (twice: sha256sum unchanged; an older bundle after it: nothing
+            more), whose trait table then equals the station's (sqlite3 shell), whose line recorder asks for them
+            and whose bundle brings the values back; a blind handheld receives no comment of the trait file
+  geojson   GeoJSON of a station with a conflict: the value left out, counted in the document's foreign
+            members; GDAL's ogrinfo (RFC 7946 reader) sees the plot without it and the agreed value kept
 """
 import csv
 import hashlib
 import io
 import json
 import pathlib
+import re
 import shutil
 import struct
 import subprocess
 import sys
+import tomllib
 
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 DEMO_SPEC = ROOT / "layouts" / "demo.toml"
@@ -379,8 +389,184 @@ def case_blind(exe, work):
     print(f"ok: no treatment label in the blind handheld's file ({len(labels)} labels checked)")
 
 
+# Two traits added to the running trial; the comment names a treatment, which must never reach a blind handheld.
+NEW_TRAITS = """# scored after the hail of 2 March; worst on Line 22-07
+[[traits]]
+name = "hail_score"
+label = "Hail damage"
+kind = "score"
+min = 1
+max = 5
+
+[[traits]]
+name = "panicle_cm"
+unit = "cm"
+kind = "number"
+min = 0
+max = 45.5
+decimals = 1
+"""
+
+
+def line_of(text, needle):
+    """1-based line of the first line containing `needle` (counted in the file itself)."""
+    return next(i + 1 for i, l in enumerate(text.splitlines()) if needle in l)
+
+
+def case_traits(exe, work):
+    t = Trial(exe, work)
+    dev = t.device("hh-1")
+    new = work / "new-traits.toml"
+    new.write_text(NEW_TRAITS)
+    spec_before = sqlite(t.db, "SELECT spec_toml FROM trial;")
+    cert_before = sqlite(t.db, "SELECT sha256 FROM layout_certificate;")
+    out = run([exe, "trait", "add", "--db", t.db, "--file", new, "--observer", "M. Banda"]).stdout.decode()
+    if "added trait hail_score" not in out or "added trait panicle_cm [cm]" not in out:
+        fail(f"trait add says: {out}")
+    # Nothing recorded changed: the spec text is the demo file's text, the certificate as it was.
+    if sqlite(t.db, "SELECT spec_toml FROM trial;") != spec_before or spec_before.rstrip("\n") != DEMO_SPEC.read_text().rstrip("\n"):
+        fail("the stored spec text changed")
+    if sqlite(t.db, "SELECT sha256 FROM layout_certificate;") != cert_before:
+        fail("the layout certificate changed")
+    run([exe, "verify", "--db", t.db])
+    # Each stored definition, read by Python's TOML reader, is the file's table (TOML v1.0.0).
+    given = tomllib.loads(NEW_TRAITS)["traits"]
+    rows = json.loads(sqlite(t.db, "SELECT json_group_array(json_array(name, position, definition, added_by)) "
+                                   "FROM (SELECT * FROM trait_addition ORDER BY position);"))
+    if [(r[0], r[1], r[3]) for r in rows] != [("hail_score", TRAITS, "M. Banda"), ("panicle_cm", TRAITS + 1, "M. Banda")]:
+        fail(f"trait_addition rows {rows}")
+    for r, table in zip(rows, given):
+        if tomllib.loads(r[2]) != {"traits": [table]}:
+            fail(f"definition of {r[0]} reads {tomllib.loads(r[2])}, the file gave {table}")
+        if "#" in r[2]:
+            fail(f"definition of {r[0]} keeps a comment: {r[2]!r}")
+    traits_sql = "SELECT * FROM trait ORDER BY position;"
+    if sqlite(t.db, "SELECT name FROM trait ORDER BY position;").split()[-2:] != ["hail_score", "panicle_cm"]:
+        fail("the added traits are not after the spec's")
+
+    # Refused adds: each names the file, the line and the key, exits 1, and leaves the file as it was.
+    before = sha256sum(t.db)
+    bad_kind = work / "bad-kind.toml"
+    bad_kind.write_text('[[traits]]\nname = "tiller_count"\nunit = "tillers"\nkind = "tally"\n')
+    name_line = line_of(NEW_TRAITS, 'name = "hail_score"')
+    refusals = [(new, f"{new}:{name_line}: traits[1].name: trial SORG26 already has a trait named 'hail_score'"),
+                (bad_kind, f"{bad_kind}:4: traits[1].kind: unknown kind 'tally'")]
+    for f, message in refusals:
+        err = run([exe, "trait", "add", "--db", t.db, "--file", f], expect=1).stderr.decode()
+        if message not in err:
+            fail(f"{f.name}: expected {message!r} on stderr, got {err!r}")
+        if sha256sum(t.db) != before:
+            fail(f"{f.name}: the station file changed although the trait was refused")
+    dev_before = sha256sum(dev)
+    other = work / "other.toml"
+    other.write_text('[[traits]]\nname = "awns"\nkind = "text"\n')
+    err = run([exe, "trait", "add", "--db", dev, "--file", other], expect=1).stderr.decode()
+    if "device 'hh-1': traits are added at the station" not in err or str(dev) not in err:
+        fail(f"the handheld should refuse trait add naming itself: {err!r}")
+    if sha256sum(dev) != dev_before:
+        fail("the handheld's file changed on a refused trait add")
+
+    # The station's bundle brings the traits; twice changes nothing; an older bundle after it adds nothing.
+    shutil.copy(dev, work / "hh-1-copy.db")
+    run([exe, "sync", "export", "--db", t.db, "--for", "hh-1", "--out", work / "to-hh-1.bundle"])
+    out = run([exe, "sync", "import", "--db", dev, work / "to-hh-1.bundle"]).stdout.decode()
+    if "2 new traits" not in out:
+        fail(f"the handheld's import says: {out}")
+    after = sha256sum(dev)
+    out = run([exe, "sync", "import", "--db", dev, work / "to-hh-1.bundle"]).stdout.decode()
+    if "imported before: nothing changed" not in out or sha256sum(dev) != after:
+        fail(f"importing the station's bundle twice changed the handheld: {out}")
+    if sqlite(dev, traits_sql) != sqlite(t.db, traits_sql) or \
+            sqlite(dev, "SELECT * FROM trait_addition ORDER BY position;") != \
+            sqlite(t.db, "SELECT * FROM trait_addition ORDER BY position;"):
+        fail("the handheld's traits are not the station's")
+    integrity_ok(dev)
+    # Another station bundle after it (the same traits again): nothing new.
+    run([exe, "sync", "export", "--db", t.db, "--for", "hh-1", "--out", work / "to-hh-1.2.bundle"])
+    j = json.loads(run([exe, "sync", "import", "--db", dev, work / "to-hh-1.2.bundle", "--json"]).stdout)
+    if j["bundles"][0]["traits"] != 0 or j["bundles"][0]["duplicates"] != 2:
+        fail(f"the second station bundle: {j}")
+    # In the other order on a copy of the handheld: bundle 2 first, then 1; the same traits.
+    run([exe, "sync", "import", "--db", work / "hh-1-copy.db", work / "to-hh-1.2.bundle", work / "to-hh-1.bundle"])
+    if sqlite(work / "hh-1-copy.db", traits_sql) != sqlite(t.db, traits_sql):
+        fail("bundles in the other order give other traits")
+
+    # The handheld's recorder asks for the new traits after the spec's seven.
+    lines = [t.tags[101], "4.77"] + [""] * (TRAITS - 1) + ["3", "22.5"]
+    out = run([exe, "record", "--db", dev, "--observer", "A. Mwangi", "--lines"],
+              stdin=("\n".join(lines) + "\n").encode()).stdout.decode()
+    if "saved hail_score = 3" not in out or "saved panicle_cm = 22.5 cm" not in out:
+        fail(f"the handheld's recorder did not take the added traits: {out}")
+    rows = list(csv.DictReader(io.StringIO(run([exe, "export", "--db", dev, "--format", "csv-long"]).stdout.decode())))
+    if {(r["trait"], r["value"]) for r in rows} != {("grain_kg", "4.77"), ("hail_score", "3"), ("panicle_cm", "22.5")}:
+        fail(f"the handheld's export: {rows}")
+    # Its bundle brings the values to the station (and no trait: the station is the only source).
+    back = t.export(dev, work / "hh-1.1.bundle")
+    run([exe, "sync", "import", "--db", t.db, back])
+    wide = list(csv.DictReader(io.StringIO(run([exe, "export", "--db", t.db, "--format", "csv-wide"]).stdout.decode())))
+    r101 = next(r for r in wide if r["plot"] == "101")
+    if r101["hail_score"] != "3" or r101["panicle_cm [cm]"] != "22.5":
+        fail(f"the station's csv-wide: {r101}")
+    for db in (t.db, dev):
+        if not json.loads(run([exe, "audit", "--db", db, "--json"]).stdout)["ok"]:
+            fail(f"{db}: audit log broken")
+    actions = [e["action"] for e in json.loads(run([exe, "audit", "--db", t.db, "--json"]).stdout)["log"]]
+    if actions.count("trait") != 1:
+        fail(f"the station's audit log should hold one 'trait' entry: {actions}")
+
+    # A blind trial: the handheld receives the traits, and no word of the trait file's comment.
+    spec = work / "blind.toml"
+    spec.write_text(DEMO_SPEC.read_text().replace("blind = false", "blind = true"))
+    (work / "blind").mkdir()
+    b = Trial(exe, work / "blind", spec=spec)
+    bdev = b.device("hh-b")
+    run([exe, "trait", "add", "--db", b.db, "--file", new])
+    run([exe, "sync", "export", "--db", b.db, "--for", "hh-b", "--out", work / "to-hh-b.bundle"])
+    run([exe, "sync", "import", "--db", bdev, work / "to-hh-b.bundle"])
+    labels = [l.strip() for l in sqlite(b.db, "SELECT label FROM treatment;").splitlines()]
+    raw = bdev.read_bytes() + (work / "to-hh-b.bundle").read_bytes()
+    if b"hail_score" not in raw:
+        fail("the blind handheld did not receive the traits")
+    for word in labels + ["Line 22-07"]:
+        if word.encode() in raw:
+            fail(f"the blind handheld's file or bundle holds {word!r}")
+    print(f"ok: 2 traits added (spec text and certificate kept, definitions equal to the file by tomllib), "
+          f"3 refusals harmless (sha256sum), reached the handheld once, recorded there and sent back")
+
+
+def case_geojson(exe, work):
+    spec = work / "georef.toml"
+    # The demo spec with the reference stake placed on the Earth (an invented position), so GeoJSON can be made.
+    spec.write_text(DEMO_SPEC.read_text().replace("alley_m = 1.5\n",
+                                                  "alley_m = 1.5\norigin = { lat_deg = -27.43, lon_deg = 151.88 }\n", 1))
+    t = Trial(exe, work, spec=spec)
+    devices = {n: t.device(n) for n in ("hh-1", "hh-2")}
+    t.record(devices["hh-1"], "A. Mwangi", [(101, ["4.77", "20.7"]), (102, ["5.10"])])
+    t.record(devices["hh-2"], "B. Osei", [(101, ["4.87", "20.7"]), (102, ["5.10"])])
+    run([exe, "sync", "import", "--db", t.db, t.export(devices["hh-1"], work / "1.bundle"),
+         t.export(devices["hh-2"], work / "2.bundle")])
+    out = work / "plots.geojson"
+    p = run([exe, "export", "--db", t.db, "--format", "geojson", "--out", out])
+    if "1 plot/trait(s) in conflict left out" not in p.stderr.decode():
+        fail(f"no note of the conflict on stderr: {p.stderr.decode()!r}")
+    doc = json.loads(out.read_text())
+    if doc["unresolved_conflicts"] != 1 or doc["conflicts"] != [{"plot": 101, "trait": "grain_kg"}]:
+        fail(f"foreign members: {doc.get('unresolved_conflicts')}, {doc.get('conflicts')}")
+    props = {f["properties"]["plot"]: f["properties"] for f in doc["features"]}
+    if "grain_kg" in props[101] or props[101].get("moisture_pct") != 20.7 or props[102].get("grain_kg") != 5.1:
+        fail(f"properties of plots 101 and 102: {props[101]}, {props[102]}")
+    # GDAL reads the file as GeoJSON (RFC 7946) and sees plot 101 without a grain weight.
+    q = run([tool("ogrinfo", "gdal-bin"), "-ro", "-q", "-dialect", "SQLite", "-sql",
+             f'SELECT plot, grain_kg, moisture_pct FROM "{out.stem}" WHERE plot IN (101, 102) ORDER BY plot', out])
+    text = q.stdout.decode()
+    got = re.findall(r"plot \(Integer\) = (\d+)\s+grain_kg \(Real\) = (\S+)\s+moisture_pct \(Real\) = (\S+)", text)
+    if got != [("101", "(null)", "20.7"), ("102", "5.1", "(null)")]:
+        fail(f"ogrinfo reads {got} from:\n{text[:800]}")
+    print("ok: the conflicting value left out of the GeoJSON and counted; ogrinfo reads plot 101 without it")
+
+
 CASES = {"orders": case_orders, "faults": case_faults, "format": case_format, "exports": case_exports,
-         "audit": case_audit, "blind": case_blind}
+         "audit": case_audit, "blind": case_blind, "traits": case_traits, "geojson": case_geojson}
 
 if __name__ == "__main__":
     if len(sys.argv) != 4 or sys.argv[1] not in CASES:
