@@ -1,0 +1,168 @@
+// The station's one-pass check of a handheld bundle's payload (storage/sync.cpp, device_payload_summary,
+// reached through import_bundle): it must count and refuse what the check through SQLite's changeset
+// iterator does, and a refusal must leave the station's file as it was.
+//
+// Outside sources the checks rest on:
+//   - SQLite's session extension (https://www.sqlite.org/sessionintro.html): the payloads are changesets
+//     SQLite wrote, and check_bundle_payload reads them back with SQLite's own iterator
+//     (sqlite3changeset_next); its counts are the reference for the counts of the one-pass check.
+//   - The file's raw bytes (std::ifstream) for "unchanged", and PRAGMA integrity_check through a plain
+//     sqlite3 connection for a sound file (https://www.sqlite.org/pragma.html#pragma_integrity_check).
+//   - The rule that every row of a handheld's bundle is that handheld's own (docs/sync.md, "Refusals").
+#include <catch2/catch.hpp>
+
+#include <sqlite3.h>
+
+#include <fstream>
+#include <sstream>
+
+#include "core/design/layout.hpp"
+#include "core/error.hpp"
+#include "core/spec/trial_spec.hpp"
+#include "core/sync/bundle.hpp"
+#include "storage/store.hpp"
+#include "storage/sync.hpp"
+#include "temp_dir.hpp"
+
+using namespace pw;
+
+namespace {
+
+using pw_test::TempDir;
+
+const char* const kSpec = R"toml([trial]
+code = "CHK26"
+title = "Payload check trial"
+site = "Station"
+crop = "wheat"
+design = "rcbd"
+blocks = 2
+
+[field]
+plot_length_m = 5
+plot_width_m = 3
+alley_m = 1
+
+[gradient]
+bearing_deg = 0
+label = "slope"
+
+[[treatments]]
+label = "Line A"
+
+[[treatments]]
+label = "Local check"
+check = true
+
+[[traits]]
+name = "grain_kg"
+unit = "kg"
+kind = "number"
+min = 0
+max = 20
+decimals = 2
+)toml";
+
+std::string file_bytes(const std::string& path) {
+    std::ifstream in(path, std::ios::binary);
+    std::ostringstream ss;
+    ss << in.rdbuf();
+    return ss.str();
+}
+
+std::string integrity(const std::string& path) {
+    sqlite3* db = nullptr;
+    REQUIRE(sqlite3_open_v2(path.c_str(), &db, SQLITE_OPEN_READONLY, nullptr) == SQLITE_OK);
+    sqlite3_stmt* st = nullptr;
+    REQUIRE(sqlite3_prepare_v2(db, "PRAGMA integrity_check", -1, &st, nullptr) == SQLITE_OK);
+    std::string out;
+    if (sqlite3_step(st) == SQLITE_ROW) out = reinterpret_cast<const char*>(sqlite3_column_text(st, 0));
+    sqlite3_finalize(st);
+    sqlite3_close(db);
+    return out;
+}
+
+NewObservation value(int plot, const std::string& v, const std::string& device) {
+    NewObservation o;
+    o.plot = plot;
+    o.trait = "grain_kg";
+    o.value = v;
+    o.number = std::stod(v);
+    o.recorded_utc = "2026-06-01T09:00:00Z";
+    o.device = device;
+    o.observer = "obs-" + device;
+    return o;
+}
+
+std::string export_of(Store& s) {
+    std::string bytes;
+    export_bundle(s, "", "2026-06-02T12:00:00Z", [&](const std::string& b) { bytes = b; });
+    return bytes;
+}
+
+}  // namespace
+
+TEST_CASE("The station counts a handheld bundle's observations and plot events as SQLite's changeset reader does",
+          "[sync][import][payload]") {
+    TempDir dir;
+    const TrialSpec spec = parse_trial_spec(kSpec, "chk.toml");
+    Store station = Store::create(dir.file("station.db"), kSpec, "chk.toml", spec, design_trial(spec, 7),
+                                  "2026-06-01T07:00:00Z");
+    provision_device(station, "hh-1", dir.file("hh1.db"), "2026-06-01T08:00:00Z");
+    std::string bundle;
+    {
+        Store hh = Store::open(dir.file("hh1.db"));
+        for (int plot : {101, 102, 201}) hh.add_observation(value(plot, "4.5", "hh-1"));
+        PlotEvent ev;
+        ev.plot = 202;
+        ev.state = PlotState::Damaged;
+        ev.flag = "damaged";
+        ev.reason = "hail";
+        ev.recorded_utc = "2026-06-01T09:30:00Z";
+        ev.device = "hh-1";
+        ev.observer = "obs-hh-1";
+        hh.add_plot_event(ev);
+        bundle = export_of(hh);
+    }
+    const PayloadSummary sqlite_read = check_bundle_payload(decode_bundle(bundle, "hh1.bundle"), "hh1.bundle");
+    REQUIRE(sqlite_read.observations == 3);
+    REQUIRE(sqlite_read.events == 1);
+    const ImportResult r = import_bundle(station, bundle, "hh1.bundle", "2026-06-02T13:00:00Z");
+    CHECK(r.observations == sqlite_read.observations);
+    CHECK(r.events == sqlite_read.events);
+    CHECK(r.applied == 3);
+    CHECK(r.duplicates == 0);
+}
+
+TEST_CASE("A handheld bundle holding another device's rows is refused at the station and changes nothing",
+          "[sync][import][payload][refuse]") {
+    TempDir dir;
+    const TrialSpec spec = parse_trial_spec(kSpec, "chk.toml");
+    {
+        Store station = Store::create(dir.file("station.db"), kSpec, "chk.toml", spec, design_trial(spec, 7),
+                                      "2026-06-01T07:00:00Z");
+        provision_device(station, "hh-1", dir.file("hh1.db"), "2026-06-01T08:00:00Z");
+        provision_device(station, "hh-2", dir.file("hh2.db"), "2026-06-01T08:00:00Z");
+    }
+    std::string relabelled;
+    {
+        Store hh = Store::open(dir.file("hh1.db"));
+        hh.add_observation(value(101, "4.5", "hh-1"));
+        // hh-1's rows under a header naming hh-2, with a checksum that matches (encode_bundle writes it).
+        Bundle b = decode_bundle(export_of(hh), "hh1.bundle");
+        b.header.device = "hh-2";
+        relabelled = encode_bundle(b.header, b.payload);
+    }
+    // SQLite's reader, through check_bundle_payload, sees the same fault.
+    CHECK_THROWS_WITH(check_bundle_payload(decode_bundle(relabelled, "hh2.bundle"), "hh2.bundle"),
+                      Catch::Contains("holds a row of device 'hh-1' in a bundle of device 'hh-2'"));
+    const std::string before = file_bytes(dir.file("station.db"));
+    {
+        Store station = Store::open(dir.file("station.db"));
+        CHECK_THROWS_WITH(import_bundle(station, relabelled, "hh2.bundle", "2026-06-02T13:00:00Z"),
+                          Catch::StartsWith("hh2.bundle: refused, nothing imported: the payload holds a row of device "
+                                            "'hh-1' in a bundle of device 'hh-2'"));
+    }
+    CHECK(file_bytes(dir.file("station.db")) == before);
+    CHECK(integrity(dir.file("station.db")) == "ok");
+}
