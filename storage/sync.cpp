@@ -6,7 +6,8 @@
 //   - The conflict handler never answers SQLITE_CHANGESET_REPLACE: a row already present is kept. An
 //     identical row is omitted (the same bundle, or the same row in two bundles); any other conflict,
 //     constraint or foreign-key failure aborts the bundle.
-//   - A payload is read completely (check_bundle_payload) before anything is written: only INSERTs into
+//   - A payload is read completely (check_bundle_payload; at the station, device_payload_summary, the same
+//     rules in one pass over the bytes) before anything is written: only INSERTs into
 //     sync_observation / sync_plot_event (station to device: sync_plot_event and trait_addition), with the
 //     columns this program writes, of the origin the header names.
 //   - An import is one transaction: the changeset, the rows made current, the sync_bundle record and the
@@ -286,6 +287,64 @@ std::string changeset_framing_fault(std::string_view p) {
         }
     }
     return "";
+}
+
+// The payload check of a handheld's bundle at the station, in one pass over the bytes: what
+// check_bundle_payload asks of it (the tables a handheld's bundle may change, each row's origin the
+// header's device; op, columns and key are the framing's), without a second pass through SQLite's iterator,
+// which copies every value it reads (docs/benchmarks.md, "Station sync"). Runs changeset_framing_fault
+// first, so it walks a well-framed payload; the refusals and their messages are check_bundle_payload's.
+PayloadSummary device_payload_summary(const Bundle& bundle, const std::string& source) {
+    PayloadSummary sum;
+    const std::string_view p = bundle.payload;
+    auto refuse = [&](const std::string& why) {
+        throw BundleError(BundleFault::BadField, source + ": refused, nothing imported: the payload " + why);
+    };
+    if (p.empty()) return sum;
+    if (const std::string why = changeset_framing_fault(p); !why.empty()) refuse(why);
+    std::size_t i = 0;
+    auto varint = [&]() {  // well framed: 1 to 9 bytes, big-endian 7-bit groups (changeset_framing_fault)
+        std::uint64_t v = 0;
+        for (int k = 0; k < 9; ++k) {
+            const auto b = static_cast<unsigned char>(p[i++]);
+            if (k == 8) return (v << 8) | b;
+            v = (v << 7) | (b & 0x7f);
+            if (!(b & 0x80)) break;
+        }
+        return v;
+    };
+    std::string_view table;
+    int ncol = 0;
+    bool obs = false;
+    while (i < p.size()) {
+        if (p[i] == 'T') {
+            ++i;
+            ncol = static_cast<int>(varint());
+            i += static_cast<std::size_t>(ncol);
+            const std::size_t end = p.find('\0', i);
+            table = p.substr(i, end - i);
+            i = end + 1;
+            obs = table == "sync_observation";
+            if (!obs && table != "sync_plot_event")
+                refuse(fmt::format("changes table '{}', which a bundle from the {} never does", table,
+                                   to_string(bundle.header.kind)));
+            continue;
+        }
+        i += 2;  // the operation (an INSERT) and the "indirect" flag
+        for (int c = 0; c < ncol; ++c) {
+            const int type = p[i++];
+            const std::uint64_t n = type == 1 || type == 2 ? 8 : type == 5 ? 0 : varint();
+            if (c == 0) {  // the origin: a text equal to the header's device
+                if (type != 3) refuse(fmt::format("has a {} row without an origin", table));
+                const std::string_view o = p.substr(i, static_cast<std::size_t>(n));
+                if (o != bundle.header.device)
+                    refuse(fmt::format("holds a row of device '{}' in a bundle of device '{}'", o, bundle.header.device));
+            }
+            i += static_cast<std::size_t>(n);
+        }
+        (obs ? sum.observations : sum.events) += 1;
+    }
+    return sum;
 }
 
 // ---- making received rows current ---------------------------------------------------------------------
@@ -767,7 +826,7 @@ ImportResult import_bundle(Store& store, std::string_view bytes, const std::stri
             return r;
         }
     }
-    const PayloadSummary sum = check_bundle_payload(b, source);
+    const PayloadSummary sum = me ? check_bundle_payload(b, source) : device_payload_summary(b, source);
 
     WriteTransaction tx(db);
     const int changes_before = sqlite3_total_changes(db);
