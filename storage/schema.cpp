@@ -461,4 +461,15 @@ void apply(sqlite3* db, const Migration& m) {
     sql::exec(db, set_version.c_str(), doing);
 }
 
+const char* stored_kind(TraitKind k) {
+    switch (k) {
+        case TraitKind::Number: return "number";
+        case TraitKind::Count: return "count";
+        case TraitKind::Score: return "score";
+        case TraitKind::Date: return "date";
+        case TraitKind::Text: return "text";
+    }
+    return "number";
+}
+
 }  // namespace pw::schema

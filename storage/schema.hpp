@@ -8,6 +8,8 @@
 
 #include <cstdint>
 
+#include "core/spec/trial_spec.hpp"
+
 namespace pw::schema {
 
 // "PLWT" in ASCII, read as a big-endian 32-bit integer (SQLite stores application_id at header offset 68;
@@ -22,6 +24,10 @@ struct Migration {
 // Migrations in order, version 1 first. The last one's version is the current schema version.
 const Migration* migrations(int* count);
 int latest_version();
+
+// Trait kinds as stored in trait.kind (migration 1). The database owns this spelling, so a change in how
+// kinds are shown elsewhere does not change the file format.
+const char* stored_kind(TraitKind k);
 
 // Applies migration `m` and sets user_version, inside a transaction the caller has opened.
 void apply(sqlite3* db, const Migration& m);

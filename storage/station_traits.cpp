@@ -12,6 +12,7 @@
 
 #include "core/error.hpp"
 #include "storage/audit_log.hpp"
+#include "storage/schema.hpp"
 #include "storage/sqlite_statement.hpp"
 #include "storage/store.hpp"
 #include "storage/sync.hpp"
@@ -22,17 +23,7 @@ namespace {
 using sql::Statement;
 using sql::WriteTransaction;
 
-// trait.kind as the database spells it (schema.cpp, migration 1; the same spelling store.cpp writes).
-const char* stored_kind(TraitKind k) {
-    switch (k) {
-        case TraitKind::Number: return "number";
-        case TraitKind::Count: return "count";
-        case TraitKind::Score: return "score";
-        case TraitKind::Date: return "date";
-        case TraitKind::Text: return "text";
-    }
-    return "number";
-}
+using schema::stored_kind;
 
 // Inserts the trait row; returns SQLite's result code when a constraint refuses it.
 int insert_trait_row(sqlite3* db, const TraitSpec& t, int position) {

@@ -43,18 +43,7 @@ namespace {
 using sql::Statement;
 using sql::WriteTransaction;
 
-// Trait kinds as stored in trait.kind. The database owns this spelling, so a change in how kinds are
-// shown elsewhere does not change the file format.
-const char* stored_kind(TraitKind k) {
-    switch (k) {
-        case TraitKind::Number: return "number";
-        case TraitKind::Count: return "count";
-        case TraitKind::Score: return "score";
-        case TraitKind::Date: return "date";
-        case TraitKind::Text: return "text";
-    }
-    return "number";
-}
+using schema::stored_kind;
 
 struct DbCloser {
     void operator()(sqlite3* db) const { sqlite3_close_v2(db); }

@@ -34,6 +34,7 @@
 #include "storage/schema.hpp"
 #include "storage/store.hpp"
 #include "old_database.hpp"
+#include "raw_db.hpp"
 #include "temp_dir.hpp"
 
 using namespace pw;
@@ -41,6 +42,8 @@ using namespace pw;
 namespace {
 
 using pw_test::TempDir;
+using pw_test::raw_rows;
+using pw_test::raw_exec;
 
 const char* const kSpec = R"toml([trial]
 code = "UNDO26"
@@ -127,32 +130,6 @@ struct Trial {
 
 PlotEvent event(int plot, PlotState state, const std::string& flag, const std::string& note) {
     return {plot, state, note, "2026-06-01T09:00:00Z", "hh", "tester", flag};
-}
-
-int raw_exec(const std::string& path, const std::string& sql) {
-    sqlite3* db = nullptr;
-    REQUIRE(sqlite3_open(path.c_str(), &db) == SQLITE_OK);
-    int rc = sqlite3_exec(db, sql.c_str(), nullptr, nullptr, nullptr);
-    sqlite3_close(db);
-    return rc;
-}
-
-std::string raw_rows(const std::string& path, const std::string& sql) {
-    sqlite3* db = nullptr;
-    REQUIRE(sqlite3_open_v2(path.c_str(), &db, SQLITE_OPEN_READONLY, nullptr) == SQLITE_OK);
-    sqlite3_stmt* st = nullptr;
-    REQUIRE(sqlite3_prepare_v2(db, sql.c_str(), -1, &st, nullptr) == SQLITE_OK);
-    std::string out;
-    while (sqlite3_step(st) == SQLITE_ROW) {
-        for (int c = 0; c < sqlite3_column_count(st); ++c) {
-            const unsigned char* t = sqlite3_column_text(st, c);
-            out += (c ? "|" : "") + std::string(t ? reinterpret_cast<const char*>(t) : "NULL");
-        }
-        out += "\n";
-    }
-    sqlite3_finalize(st);
-    sqlite3_close(db);
-    return out;
 }
 
 }  // namespace

@@ -22,6 +22,7 @@
 #include "core/sync/bundle.hpp"
 #include "storage/store.hpp"
 #include "storage/sync.hpp"
+#include "raw_db.hpp"
 #include "temp_dir.hpp"
 
 using namespace pw;
@@ -29,6 +30,7 @@ using namespace pw;
 namespace {
 
 using pw_test::TempDir;
+using pw_test::file_bytes;
 
 const char* const kSpec = R"toml([trial]
 code = "CHK26"
@@ -62,13 +64,6 @@ min = 0
 max = 20
 decimals = 2
 )toml";
-
-std::string file_bytes(const std::string& path) {
-    std::ifstream in(path, std::ios::binary);
-    std::ostringstream ss;
-    ss << in.rdbuf();
-    return ss.str();
-}
 
 std::string integrity(const std::string& path) {
     sqlite3* db = nullptr;

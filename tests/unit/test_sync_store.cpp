@@ -30,6 +30,7 @@
 #include "storage/store.hpp"
 #include "storage/sync.hpp"
 #include "storage/sync_conflicts.hpp"
+#include "raw_db.hpp"
 #include "temp_dir.hpp"
 
 using namespace pw;
@@ -37,6 +38,8 @@ using namespace pw;
 namespace {
 
 using pw_test::TempDir;
+using pw_test::file_bytes;
+using pw_test::raw_rows;
 
 const char* const kSpec = R"toml([trial]
 code = "SYNC26"
@@ -88,31 +91,6 @@ Store make_station(const std::string& path, bool blind = false) {
     const std::string text = spec_text(blind);
     const TrialSpec spec = parse_trial_spec(text, "sync.toml");
     return Store::create(path, text, "sync.toml", spec, design_trial(spec, 26), "2026-06-01T07:00:00Z");
-}
-
-std::string file_bytes(const std::string& path) {
-    std::ifstream in(path, std::ios::binary);
-    std::ostringstream ss;
-    ss << in.rdbuf();
-    return ss.str();
-}
-
-std::string raw_rows(const std::string& path, const std::string& sql) {
-    sqlite3* db = nullptr;
-    REQUIRE(sqlite3_open_v2(path.c_str(), &db, SQLITE_OPEN_READONLY, nullptr) == SQLITE_OK);
-    sqlite3_stmt* st = nullptr;
-    REQUIRE(sqlite3_prepare_v2(db, sql.c_str(), -1, &st, nullptr) == SQLITE_OK);
-    std::string out;
-    while (sqlite3_step(st) == SQLITE_ROW) {
-        for (int c = 0; c < sqlite3_column_count(st); ++c) {
-            const unsigned char* t = sqlite3_column_text(st, c);
-            out += (c ? "|" : "") + std::string(t ? reinterpret_cast<const char*>(t) : "NULL");
-        }
-        out += "\n";
-    }
-    sqlite3_finalize(st);
-    sqlite3_close(db);
-    return out;
 }
 
 NewObservation value(int plot, const std::string& trait, const std::string& v, const std::string& device,
