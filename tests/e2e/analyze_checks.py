@@ -21,21 +21,10 @@ import subprocess
 import sys
 import tomllib
 
+from e2e_common import fail, run
+
 SKIP = 77
 TOL = 1e-9
-
-
-def fail(msg):
-    print("FAIL: " + msg)
-    sys.exit(1)
-
-
-def run(args, stdin=None, expect=0):
-    p = subprocess.run([str(a) for a in args], input=stdin, capture_output=True, text=True)
-    if expect is not None and p.returncode != expect:
-        fail(f"{' '.join(map(str, args))} exited {p.returncode}, expected {expect}\nstdout:\n{p.stdout}\n"
-             f"stderr:\n{p.stderr}")
-    return p
 
 
 # R prints one line per ANOVA row: term, df, SS, F, p (NA where absent), doubles with %.17g.

@@ -17,21 +17,10 @@ import shutil
 import subprocess
 import sys
 
+from e2e_common import fail, run
+
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 DEMO_SPEC = ROOT / "layouts" / "demo.toml"
-
-
-def fail(msg):
-    print("FAIL: " + msg)
-    sys.exit(1)
-
-
-def run(args, stdin=None, expect=0):
-    p = subprocess.run([str(a) for a in args], input=stdin, capture_output=True, text=True)
-    if expect is not None and p.returncode != expect:
-        fail(f"{' '.join(map(str, args))} exited {p.returncode}, expected {expect}\n"
-             f"stdout:\n{p.stdout}\nstderr:\n{p.stderr}")
-    return p
 
 
 def mod37_36_check(data):

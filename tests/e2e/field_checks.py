@@ -35,22 +35,18 @@ import time
 import tomllib
 import xml.etree.ElementTree as ET
 
+import e2e_common
+from e2e_common import fail
+
+
+def run(args, **kw):
+    return e2e_common.run(args, text=False, **kw)
+
+
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 DEMO = ROOT / "layouts" / "demo.toml"
 FACTORIAL = ROOT / "layouts" / "rcbd-factorial.toml"   # stake at -27.4321 151.8765, x bearing 120, guards
 NMEA = ROOT / "tests" / "data" / "nmea" / "sentences.nmea"
-
-
-def fail(msg):
-    print("FAIL: " + msg)
-    sys.exit(1)
-
-
-def run(args, expect=0, **kw):
-    p = subprocess.run([str(a) for a in args], capture_output=True, **kw)
-    if p.returncode != expect:
-        fail(f"{' '.join(map(str, args))} exited {p.returncode}, expected {expect}: {p.stderr!r}")
-    return p
 
 
 def text(args, **kw):
@@ -176,7 +172,7 @@ def case_geojson(pw, work):
     design(pw, FACTORIAL, db)
     rows = plots(pw, db)
     first = rows[0]
-    run([pw, "record", "--db", db, "--observer", "field test", "--lines"], input=f"{first['tag']}\n7.25\n".encode())
+    run([pw, "record", "--db", db, "--observer", "field test", "--lines"], stdin=f"{first['tag']}\n7.25\n".encode())
     out = work / "plots.geojson"
     run([pw, "export", "--db", db, "--format", "geojson", "--out", out])
     doc = json.loads(out.read_text())
@@ -272,7 +268,7 @@ def case_nmea(pw, work):
     db = work / "f.db"
     design(pw, FACTORIAL, db)
     corners = list(csv.DictReader(io.StringIO(text([pw, "stakeout", "--db", db]))))
-    p = run([pw, "stakeout", "--db", db, "--nmea", NMEA], stdin=subprocess.DEVNULL)
+    p = run([pw, "stakeout", "--db", db, "--nmea", NMEA], stdin=b"")
     out, err = p.stdout.decode().splitlines(), p.stderr.decode()
     # tests/data/nmea/README.md: 9 GGA/RMC with sound checksums, one of them "no fix": 8 good fixes.
     if len(out) != 8:
@@ -301,7 +297,7 @@ def case_nmea(pw, work):
     cut = work / "cut.nmea"
     good = [l for l in lines if l.startswith("$GNGGA,010203")][0]
     cut.write_text(good + "\n" + good[:30])   # the receiver unplugged mid-sentence
-    p = run([pw, "stakeout", "--db", db, "--nmea", cut], stdin=subprocess.DEVNULL)
+    p = run([pw, "stakeout", "--db", db, "--nmea", cut], stdin=b"")
     if len(p.stdout.decode().splitlines()) != 1 or "2 lines: 1 accepted, 0 ignored, 1 refused" not in p.stderr.decode():
         fail(f"a line cut short: {p.stdout!r} {p.stderr!r}")
     print("ok: a last line cut short is refused and counted")

@@ -18,20 +18,10 @@ import subprocess
 import sys
 import time
 
+from e2e_common import fail, output
+
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 DEMO_SPEC = ROOT / "layouts" / "demo.toml"
-
-
-def fail(msg):
-    print("FAIL: " + msg)
-    sys.exit(1)
-
-
-def run(args):
-    p = subprocess.run([str(a) for a in args], capture_output=True, text=True)
-    if p.returncode != 0:
-        fail(f"{' '.join(map(str, args))} exited {p.returncode}: {p.stderr}")
-    return p.stdout
 
 
 def main():
@@ -42,8 +32,8 @@ def main():
     shutil.rmtree(work, ignore_errors=True)
     work.mkdir(parents=True)
     db = work / "trial.db"
-    run([pw, "design", DEMO_SPEC, "--db", db])
-    plots = list(csv.DictReader(io.StringIO(run([pw, "plots", "--db", db]))))
+    output([pw, "design", DEMO_SPEC, "--db", db])
+    plots = list(csv.DictReader(io.StringIO(output([pw, "plots", "--db", db]))))
     rng = random.Random(20261202)
     confirmed = 0
     for k in range(kills):
@@ -73,10 +63,10 @@ def main():
         os.kill(p.pid, signal.SIGKILL)
         p.wait()
         # Every confirmed value is a row of the database.
-        stored = run([sqlite3, db, f"SELECT value FROM observation WHERE device = 'hh-{k}' ORDER BY id"]).split()
+        stored = output([sqlite3, db, f"SELECT value FROM observation WHERE device = 'hh-{k}' ORDER BY id"]).split()
         if stored[: len(saved)] != saved:
             fail(f"kill {k}: confirmed {saved}, the database holds {stored}")
-        check = run([sqlite3, db, "PRAGMA integrity_check"]).strip()
+        check = output([sqlite3, db, "PRAGMA integrity_check"]).strip()
         if check != "ok":
             fail(f"kill {k}: integrity_check says {check}")
         confirmed += len(saved)

@@ -30,30 +30,12 @@ import sys
 import xml.dom.minidom
 import zlib
 
+from e2e_common import fail, run, tool
+
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 DEMO_SPEC = ROOT / "layouts" / "demo.toml"
 DPI = 300                       # pdftoppm -r 300
 PAGE_MM = {"a4": (210.0, 297.0), "letter": (8.5 * 25.4, 11.0 * 25.4)}   # ISO 216; ANSI/ASME Y14.1
-
-
-def fail(msg):
-    print("FAIL: " + msg)
-    sys.exit(1)
-
-
-def tool(name, package):
-    path = shutil.which(name)
-    if not path:
-        fail(f"{name} (Debian package {package}) is needed for this check")
-    return path
-
-
-def run(args, expect=0):
-    p = subprocess.run([str(a) for a in args], capture_output=True, text=True)
-    if expect is not None and p.returncode != expect:
-        fail(f"{' '.join(map(str, args))} exited {p.returncode}, expected {expect}\n"
-             f"stdout:\n{p.stdout}\nstderr:\n{p.stderr}")
-    return p
 
 
 def mod37_36_check(data):

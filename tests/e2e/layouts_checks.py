@@ -15,6 +15,8 @@ import subprocess
 import sys
 import tomllib
 
+from e2e_common import fail, run
+
 # docs/design.md, "Columns of `plots`": the design's own columns, after the common ones.
 DESIGN_COLUMNS = {
     "crd": [], "rcbd": [], "paired": [],
@@ -24,19 +26,6 @@ DESIGN_COLUMNS = {
     "alpha": ["rep", "incomplete_block"],
 }
 COMMON = ["plot", "block", "row", "col", "treatment", "x_m", "y_m"]
-
-
-def fail(msg):
-    print("FAIL: " + msg)
-    sys.exit(1)
-
-
-def run(args, stdin=None, expect=0):
-    p = subprocess.run([str(a) for a in args], input=stdin, capture_output=True, text=True)
-    if expect is not None and p.returncode != expect:
-        fail(f"{' '.join(map(str, args))} exited {p.returncode}, expected {expect}\n"
-             f"stdout:\n{p.stdout}\nstderr:\n{p.stderr}")
-    return p
 
 
 def mod37_36_check(data):

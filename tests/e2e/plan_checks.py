@@ -18,17 +18,7 @@ import subprocess
 import sys
 import tempfile
 
-
-def fail(msg):
-    print("FAIL: " + msg)
-    sys.exit(1)
-
-
-def run(args, expect=0):
-    p = subprocess.run([str(a) for a in args], capture_output=True, text=True)
-    if expect is not None and p.returncode != expect:
-        fail(f"{' '.join(map(str, args))} exited {p.returncode}, expected {expect}\nstdout:\n{p.stdout}\nstderr:\n{p.stderr}")
-    return p
+from e2e_common import fail, run
 
 
 # R: the same quantities as core/stats/power.hpp, written here from their definitions.

@@ -32,21 +32,11 @@ import subprocess
 import sys
 import xml.etree.ElementTree as ET
 
+from e2e_common import fail, run
+
 SKIP = 77
 TOL = 1e-9
 VOID = {"area", "base", "br", "col", "embed", "hr", "img", "input", "link", "meta", "source", "track", "wbr"}
-
-
-def fail(msg):
-    print("FAIL: " + msg)
-    sys.exit(1)
-
-
-def run(args, expect=0, env=None, timeout=300):
-    p = subprocess.run([str(a) for a in args], capture_output=True, text=True, env=env, timeout=timeout)
-    if expect is not None and p.returncode != expect:
-        fail(f"{' '.join(map(str, args))} exited {p.returncode}\nstdout:\n{p.stdout[-3000:]}\nstderr:\n{p.stderr[-3000:]}")
-    return p
 
 
 def demo(pw, work):

@@ -18,6 +18,8 @@ import subprocess
 import sys
 import time
 
+from e2e_common import fail, output
+
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 DEMO_SPEC = ROOT / "layouts" / "demo.toml"
 FLAGS = """
@@ -37,18 +39,6 @@ analysis = "missing"
 """
 
 
-def fail(msg):
-    print("FAIL: " + msg)
-    sys.exit(1)
-
-
-def run(args, **kw):
-    p = subprocess.run([str(a) for a in args], capture_output=True, text=True, **kw)
-    if p.returncode != 0:
-        fail(f"{' '.join(map(str, args))} exited {p.returncode}: {p.stderr}")
-    return p.stdout
-
-
 class Terminal:
     def __init__(self, socket, width, height, command):
         self.tmux = shutil.which("tmux")
@@ -59,7 +49,7 @@ class Terminal:
                  "env", "TERM=xterm", *map(str, command)])
 
     def t(self, args):
-        return run([self.tmux, "-L", self.socket, *args])
+        return output([self.tmux, "-L", self.socket, *args])
 
     def keys(self, *keys, literal=False):
         self.t(["send-keys", *(["-l"] if literal else []), *keys])
@@ -95,8 +85,8 @@ def main():
     db = work / "trial.db"
     spec = work / "demo-flags.toml"
     spec.write_text(DEMO_SPEC.read_text() + FLAGS)
-    run([pw, "design", spec, "--db", db])
-    plots = list(csv.DictReader(io.StringIO(run([pw, "plots", "--db", db]))))
+    output([pw, "design", spec, "--db", db])
+    plots = list(csv.DictReader(io.StringIO(output([pw, "plots", "--db", db]))))
     tags = [p["tag"] for p in plots]
 
     term = Terminal(f"pw-tui-{width}x{height}", width, height,
@@ -179,7 +169,7 @@ def main():
         for l in s.rstrip("\n").split("\n"):
             if len(l) > width:
                 fail(f"a line is wider than {width}: {l!r}")
-    obs = list(csv.DictReader(io.StringIO(run([pw, "export", "--db", db, "--format", "csv"]))))
+    obs = list(csv.DictReader(io.StringIO(output([pw, "export", "--db", db, "--format", "csv"]))))
     got = {(o["plot"], o["trait"]): o["value"] for o in obs}
     # Plot 1 back to 5.25 by the undo; plot 2's value undone; plot 3 flagged as missing.
     want = {(plots[0]["plot"], "grain_kg"): "5.25"}
@@ -189,17 +179,17 @@ def main():
     if not sqlite3:
         fail("the sqlite3 shell (Debian package sqlite3) is needed to read the history")
     # Append-only: every value stays, the undo rows supersede the undone ones.
-    history = run([sqlite3, db, "SELECT plot, quote(value), coalesce(supersedes, '-'), note FROM observation "
+    history = output([sqlite3, db, "SELECT plot, quote(value), coalesce(supersedes, '-'), note FROM observation "
                                 "ORDER BY id"]).strip().split("\n")
     p1, p2, p3 = plots[0]["plot"], plots[1]["plot"], plots[2]["plot"]
     want_history = [f"{p1}|'5.25'|-|", f"{p1}|'5.52'|1|corrected at entry", f"{p1}|'5.25'|2|undone: back to 5.25",
                     f"{p2}|'4.10'|-|", f"{p2}|''|4|undone: no value", f"{p3}|'3.00'|-|"]
     if history != want_history:
         fail(f"the history should keep every value with the undo rows superseding: {history}, expected {want_history}")
-    current = run([sqlite3, db, "SELECT plot, value FROM current_observation ORDER BY id"]).split()
+    current = output([sqlite3, db, "SELECT plot, value FROM current_observation ORDER BY id"]).split()
     if current != [f"{p1}|5.25", f"{p2}|", f"{p3}|3.00"]:
         fail(f"current rows: {current}")
-    events = run([sqlite3, db, "SELECT plot, flag, state, reason FROM plot_event ORDER BY id"]).strip().split("\n")
+    events = output([sqlite3, db, "SELECT plot, flag, state, reason FROM plot_event ORDER BY id"]).strip().split("\n")
     if events != [f"{p2}|lodged|damaged|stems flat", f"{p3}|washed_out|missing|ditch"]:
         fail(f"the flags in the database: {events}")
     print(f"ok: {width}x{height}: scan, refusal, value, correction, undo, spec flags and skip on screen and in "

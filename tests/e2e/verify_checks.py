@@ -25,29 +25,17 @@ import subprocess
 import sys
 import tomllib
 
+import e2e_common
+from e2e_common import fail, tool
+
+
+def run(args, **kw):
+    return e2e_common.run(args, text=False, **kw)
+
+
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 DEMO_SPEC = ROOT / "layouts" / "demo.toml"
 SEED = 4242
-
-
-def fail(msg):
-    print("FAIL: " + msg)
-    sys.exit(1)
-
-
-def run(args, expect=0, stdin=None):
-    p = subprocess.run([str(a) for a in args], capture_output=True, input=stdin)
-    if expect is not None and p.returncode != expect:
-        fail(f"{' '.join(map(str, args))} exited {p.returncode}, expected {expect}\n"
-             f"stdout:\n{p.stdout.decode(errors='replace')}\nstderr:\n{p.stderr.decode(errors='replace')}")
-    return p
-
-
-def tool(name, package):
-    path = shutil.which(name)
-    if not path:
-        fail(f"{name} (Debian package {package}) is needed for this check")
-    return path
 
 
 def new_trial(exe, work):
