@@ -19,25 +19,17 @@
 #include "core/error.hpp"
 #include "core/stats/anova.hpp"
 #include "storage/csv_table.hpp"
+#include "stats_data.hpp"
 
 namespace {
 
 using nlohmann::json;
+using pw_test::data_path;
+using pw_test::read_text;
+using pw_test::read_json;
 
 constexpr double kStatTol = 1e-10;  // SS, MS, F, means (reference README)
 constexpr double kPTol = 1e-8;      // p-values (reference README)
-
-std::string data_path(const std::string& name) { return std::string(PW_TEST_DATA_DIR) + "/stats/" + name; }
-
-std::string read_text(const std::string& name) {
-    std::ifstream in(data_path(name), std::ios::binary);
-    REQUIRE(in.good());
-    std::ostringstream ss;
-    ss << in.rdbuf();
-    return ss.str();
-}
-
-json read_json(const std::string& name) { return json::parse(read_text(name)); }
 
 // Rows of a reference CSV as RCBD observations (block, treatment and value columns named).
 std::vector<pw::RcbdObservation> read_rcbd_csv(const std::string& name, const std::string& block,

@@ -22,38 +22,15 @@
 
 #include "core/stats/analysis.hpp"
 #include "storage/csv_table.hpp"
+#include "stats_data.hpp"
 
 namespace {
 
 using nlohmann::json;
-
-std::string data_path(const std::string& name) { return std::string(PW_TEST_DATA_DIR) + "/stats/" + name; }
-
-std::string read_text(const std::string& name) {
-    std::ifstream in(data_path(name), std::ios::binary);
-    REQUIRE(in.good());
-    std::ostringstream ss;
-    ss << in.rdbuf();
-    return ss.str();
-}
-
-struct Csv {
-    pw::CsvTable table;
-    std::string name;
-    std::vector<std::string> col(const std::string& c) const {
-        const std::size_t k = table.column(c, name);
-        std::vector<std::string> out;
-        for (const auto& r : table.rows) out.push_back(r[k]);
-        return out;
-    }
-    std::vector<double> num(const std::string& c) const {
-        std::vector<double> out;
-        for (const auto& s : col(c)) out.push_back(std::stod(s));
-        return out;
-    }
-};
-
-Csv read_csv(const std::string& name) { return {pw::parse_csv(read_text(name), name), name}; }
+using pw_test::data_path;
+using pw_test::read_text;
+using pw_test::Csv;
+using pw_test::read_csv;
 
 // The trial of each reference case, with the design plotwright analyses it as.
 pw::TrialData trial_of(const std::string& file) {
