@@ -25,21 +25,6 @@ std::string export_observations_csv(const Store& store) {
     return out;
 }
 
-namespace {
-
-// The value of one of the design's own columns (core/design/assignment.hpp names them).
-std::string design_column(const PlotPlacement& p, const std::string& column) {
-    if (column == "rep") return std::to_string(p.rep);
-    if (column == "incomplete_block") return std::to_string(p.incomplete_block);
-    if (column == "main") return std::to_string(p.main);
-    if (column == "sub") return std::to_string(p.sub);
-    if (column == "square_row") return std::to_string(p.square_row);
-    if (column == "square_col") return std::to_string(p.square_col);
-    throw StoreError("plots export: unknown design column '" + column + "'");
-}
-
-}  // namespace
-
 std::string export_plots_csv(const Store& store) {
     const StoredTrial& trial = store.trial();
     // The common columns first, in their fixed order; then the design's own (Layout::columns).
@@ -53,7 +38,7 @@ std::string export_plots_csv(const Store& store) {
                                         std::to_string(p.col), label, fmt::format("{:.3f}", p.x_m),
                                         fmt::format("{:.3f}", p.y_m), std::to_string(p.walk_order),
                                         qr_payload(trial.spec.code, p.id)};
-        for (const std::string& c : trial.layout.columns) row.push_back(design_column(p, c));
+        for (const std::string& c : trial.layout.columns) row.push_back(std::to_string(design_column(p, c)));
         out += csv_record(row);
     }
     return out;

@@ -16,16 +16,6 @@ namespace {
 
 std::string trait_heading(const TraitSpec& t) { return t.unit.empty() ? t.name : t.name + " [" + t.unit + "]"; }
 
-std::string design_column(const PlotPlacement& p, const std::string& column) {
-    if (column == "rep") return std::to_string(p.rep);
-    if (column == "incomplete_block") return std::to_string(p.incomplete_block);
-    if (column == "main") return std::to_string(p.main);
-    if (column == "sub") return std::to_string(p.sub);
-    if (column == "square_row") return std::to_string(p.square_row);
-    if (column == "square_col") return std::to_string(p.square_col);
-    throw StoreError("export: unknown design column '" + column + "'");
-}
-
 }  // namespace
 
 TableExport export_long_csv(const Store& store) {
@@ -59,7 +49,7 @@ TableExport export_wide_csv(const Store& store) {
         std::vector<std::string> rec = {std::to_string(p.id), std::to_string(p.block), std::to_string(p.row),
                                         std::to_string(p.col),
                                         t.spec.treatments.at(static_cast<std::size_t>(p.treatment)).label};
-        for (const std::string& c : t.layout.columns) rec.push_back(design_column(p, c));
+        for (const std::string& c : t.layout.columns) rec.push_back(std::to_string(design_column(p, c)));
         for (const TraitSpec& tr : t.spec.traits) {
             auto it = value.find({p.id, tr.name});
             rec.push_back(it == value.end() ? "" : it->second);

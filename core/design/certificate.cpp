@@ -47,18 +47,6 @@ std::string label_of(const TrialSpec& spec, int treatment) {
 
 long long millimetres(double metres) { return std::llround(metres * 1000.0); }
 
-int design_column(const PlotPlacement& p, const std::string& name) {
-    if (name == "rep") return p.rep;
-    if (name == "incomplete_block") return p.incomplete_block;
-    if (name == "main") return p.main;
-    if (name == "sub") return p.sub;
-    if (name == "square_row") return p.square_row;
-    if (name == "square_col") return p.square_col;
-    throw DesignError("layout.columns: design column '" + name +
-                      "' has no place in the certificate (expected rep, incomplete_block, main, sub, square_row, "
-                      "square_col)");
-}
-
 // What differs between a stored plot and the derived one, as "field a stored, b from the seed" phrases.
 std::string plot_difference(const TrialSpec& spec, const PlotPlacement& s, const PlotPlacement& d,
                             const std::vector<std::string>& columns) {

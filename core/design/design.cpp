@@ -196,4 +196,15 @@ Layout design_rcbd(const TrialSpec& spec, std::uint64_t seed) {
     return design_trial(s, seed);
 }
 
+int design_column(const PlotPlacement& p, const std::string& name) {
+    if (name == "rep") return p.rep;
+    if (name == "incomplete_block") return p.incomplete_block;
+    if (name == "main") return p.main;
+    if (name == "sub") return p.sub;
+    if (name == "square_row") return p.square_row;
+    if (name == "square_col") return p.square_col;
+    throw DesignError("layout.columns: unknown design column '" + name +
+                      "' (expected rep, incomplete_block, main, sub, square_row, square_col)");
+}
+
 }  // namespace pw

@@ -70,4 +70,8 @@ Layout design_rcbd(const TrialSpec& spec, std::uint64_t seed);
 // (core/design/geometry.hpp). Throws DesignError for an unknown design or a spec the design cannot use.
 Layout design_trial(const TrialSpec& spec, std::uint64_t seed);
 
+// The value of one of the design's own columns of a plot, by the name Layout::columns gives it: rep,
+// incomplete_block, main, sub, square_row, square_col. Throws DesignError for any other name.
+int design_column(const PlotPlacement& p, const std::string& name);
+
 }  // namespace pw
