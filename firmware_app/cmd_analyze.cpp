@@ -245,13 +245,12 @@ std::vector<std::string> factor_levels_of(const TrialSpec& spec, int index) {
     return out;
 }
 
-TrialData from_store(const Store& store, const std::string& trait_name, Subject& s) {
+// One value per plot: the resolved values (storage/sync_conflicts.hpp), or for a yield the values computed
+// from them (storage/trait_values.hpp). Plots whose values disagree after a merge of handhelds are left out
+// until the conflict is resolved (docs/station.md).
+TrialData from_values(const Store& store, const TraitValues& values, Subject& s) {
     const StoredTrial& t = store.trial();
-    // One value per plot: the resolved values (storage/sync_conflicts.hpp), or for a yield the values computed
-    // from them (storage/trait_values.hpp). Plots whose values disagree after a merge of handhelds are left
-    // out until the conflict is resolved (docs/station.md).
-    const ResolvedObservations resolved = resolved_observations(store);
-    const TraitValues values = trait_values(t, resolved, trait_name);
+    const std::string& trait_name = values.trait.name;
     const TraitSpec* trait = &values.trait;
     if (trait->kind == TraitKind::Date || trait->kind == TraitKind::Text)
         throw InputError(fmt::format("--trait {}: a {} trait has no ANOVA; choose a number, count or score",
@@ -345,6 +344,10 @@ TrialData from_store(const Store& store, const std::string& trait_name, Subject&
     if ((design == "split" || design == "strip") && d.factor_names.size() != 2)
         throw InputError(fmt::format("trial {}: a {} design needs its two [[factors]] (main and sub)", t.spec.code, design));
     return d;
+}
+
+TrialData from_store(const Store& store, const std::string& trait_name, Subject& s) {
+    return from_values(store, trait_values(store.trial(), resolved_observations(store), trait_name), s);
 }
 
 // ---- from a CSV file --------------------------------------------------------------------------------------
@@ -469,10 +472,10 @@ std::string analyze_trait(const Store& store, const std::string& trait, bool jso
     return json ? render_json(s, r) : render_text(s, r);
 }
 
-TraitAnalysis analyze_trait_result(const Store& store, const std::string& trait) {
+TraitAnalysis analyze_trait_result(const Store& store, const TraitValues& values) {
     Subject s;
     TraitAnalysis t;
-    t.result = analyze_trial(from_store(store, trait, s));
+    t.result = analyze_trial(from_values(store, values, s));
     t.unit = s.unit;
     t.missing_why = s.missing_why;
     for (const auto& n : t.result.notes) {

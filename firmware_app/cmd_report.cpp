@@ -54,17 +54,17 @@ std::string trial_report_html(const Store& store, bool blind, const std::string&
         report::TraitSection s;
         TraitValues values = trait_values(t, resolved, name);
         s.trait = values.trait;
-        if (values.yield) {
-            s.computed_how = describe_yield(*values.yield);
-            for (auto& [plot, rec] : values.values) s.computed.push_back(std::move(rec));
-        }
         try {
-            TraitAnalysis a = analyze_trait_result(store, name);
+            TraitAnalysis a = analyze_trait_result(store, values);
             s.analysis = std::move(a.result);
             s.missing_why = std::move(a.missing_why);
             s.notes = std::move(a.notes);
         } catch (const InputError& e) {
             s.not_analysed = e.what();  // e.g. a treatment without any value yet, no residual df left
+        }
+        if (values.yield) {
+            s.computed_how = describe_yield(*values.yield);
+            for (auto& [plot, rec] : values.values) s.computed.push_back(std::move(rec));
         }
         in.traits.push_back(std::move(s));
     }

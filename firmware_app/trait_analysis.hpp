@@ -11,6 +11,7 @@
 
 namespace pw {
 class Store;
+struct TraitValues;
 }
 
 namespace pw::app {
@@ -23,8 +24,9 @@ struct TraitAnalysis {
                                                       // whose values were used, several current values)
 };
 
-// Throws InputError as `analyze` does: an unknown trait, a date or text trait, data the design cannot
-// analyse (a treatment without any value, no residual degrees of freedom left).
-TraitAnalysis analyze_trait_result(const pw::Store& store, const std::string& trait);
+// The analysis of one trait or yield from its values in force (storage/trait_values.hpp), which the caller
+// reads once for all its traits. Throws InputError as `analyze` does: a date or text trait, data the design
+// cannot analyse (a treatment without any value, no residual degrees of freedom left).
+TraitAnalysis analyze_trait_result(const pw::Store& store, const pw::TraitValues& values);
 
 }  // namespace pw::app
