@@ -61,7 +61,7 @@ struct RecorderSetup {
     std::string observer;
     std::function<std::string()> clock;
     bool prompts = false;
-    bool echo = false;      // write each input line to `out` as "> line" (for transcripts)
+    bool echo = false;      // write each input line to `out` as "> line" (for the demo's field-day log)
 };
 int run_line_recorder(pw::Store& store, std::istream& in, std::ostream& out, std::ostream& err,
                       const RecorderSetup& setup);

@@ -165,17 +165,17 @@ void run_demo(const std::string& spec_path, const std::string& out_dir) {
                      "   take water, shade and rest in heat, and never enter treated plots before the label's\n"
                      "   re-entry interval; local regulations and licensed staff decide.\n";
         std::istringstream keys(field_day_script(spec, layout));
-        std::ostringstream transcript;  // messages and refusals interleaved, as the technician saw them
+        std::ostringstream field_day;  // messages and refusals interleaved, as the technician saw them
         FieldDayClock clock;
-        int refused = run_line_recorder(store, keys, transcript, transcript,
+        int refused = run_line_recorder(store, keys, field_day, field_day,
                                         RecorderSetup{"demo-handheld-1", "demo technician", std::ref(clock), false,
                                                       true});
-        write_file((fs::path(out_dir) / "field-day.txt").string(), transcript.str());
+        write_file((fs::path(out_dir) / "field-day.txt").string(), field_day.str());
         written.push_back((fs::path(out_dir) / "field-day.txt").string());
         std::cout << fmt::format("   {} values stored, {} lines refused by the recorder (field-day.txt has every "
                                  "keystroke and answer):\n",
                                  store.observation_count(), refused);
-        std::istringstream rl(transcript.str());
+        std::istringstream rl(field_day.str());
         for (std::string l; std::getline(rl, l);)
             if (l.rfind("refused:", 0) == 0) std::cout << "     " << l << "\n";
 
