@@ -29,6 +29,7 @@
 #include "core/error.hpp"
 #include "storage/audit_log.hpp"
 #include "storage/certificate.hpp"
+#include "storage/changeset_rows.hpp"
 #include "storage/schema.hpp"
 #include "storage/sqlite_statement.hpp"
 #include "storage/station_traits.hpp"
@@ -76,6 +77,7 @@ void configure(sqlite3* db) {
                              wal.text(0) + ")");
     }
     sql::exec(db, "PRAGMA synchronous = FULL", "setting synchronous=FULL");
+    register_received_rows(db);  // the station's import reads a handheld's rows with them (storage/sync.cpp)
 }
 
 std::int64_t pragma_int(sqlite3* db, const char* pragma) {

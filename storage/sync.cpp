@@ -1,17 +1,19 @@
-// Station sync (sync.hpp; design in docs/sync.md). The SQLite session extension makes and applies the
-// bundles' payloads (https://www.sqlite.org/sessionintro.html): sqlite3session_* records the INSERTs into
-// the sync tables, sqlite3changeset_apply replays them on the other side with a conflict handler.
+// Station sync (sync.hpp; design in docs/sync.md). The SQLite session extension makes the bundles' payloads
+// (https://www.sqlite.org/sessionintro.html): sqlite3session_* records the INSERTs into the sync tables. A
+// handheld replays the station's with sqlite3changeset_apply and a conflict handler; the station takes a
+// handheld's rows in with set-based SQL over the payload (take_in_received, storage/changeset_rows.hpp).
 //
 // Invariants:
-//   - The conflict handler never answers SQLITE_CHANGESET_REPLACE: a row already present is kept. An
-//     identical row is omitted (the same bundle, or the same row in two bundles); any other conflict,
-//     constraint or foreign-key failure aborts the bundle.
+//   - Nothing held is replaced. The conflict handler never answers SQLITE_CHANGESET_REPLACE; at the station,
+//     a received row whose origin key is held must be identical to what is held. An identical row is left
+//     out (the same row in two bundles); any other difference, constraint or foreign-key failure refuses the
+//     bundle.
 //   - A payload is read completely (check_bundle_payload; at the station, device_payload_summary, the same
 //     rules in one pass over the bytes) before anything is written: only INSERTs into
 //     sync_observation / sync_plot_event (station to device: sync_plot_event and trait_addition), with the
 //     columns this program writes, of the origin the header names.
-//   - An import is one transaction: the changeset, the rows made current, the sync_bundle record and the
-//     audit entry commit together or not at all.
+//   - An import is one transaction: the rows taken in, the rows made current, the sync_bundle record and
+//     the audit entry commit together or not at all.
 //   - A received correction is applied only once the observation it supersedes has been received; until
 //     then it waits in sync_observation (pending) and is applied by whichever later import brings the
 //     earlier one. So the observations and conflicts at the station are the same whatever the order the
@@ -24,6 +26,7 @@
 #include <cstring>
 #include <filesystem>
 #include <map>
+#include <memory>
 #include <set>
 
 #include <fmt/format.h>
@@ -34,6 +37,7 @@
 #include "core/sync/blind_spec.hpp"
 #include "storage/audit_log.hpp"
 #include "storage/certificate.hpp"
+#include "storage/changeset_rows.hpp"
 #include "storage/sqlite_statement.hpp"
 #include "storage/station_traits.hpp"
 #include "storage/store.hpp"
@@ -44,13 +48,6 @@ namespace {
 
 using sql::Statement;
 using sql::WriteTransaction;
-
-// Columns of the sync tables as the changesets carry them (schema.cpp, migration 5); the first two are
-// the primary key (origin, origin_id).
-constexpr int kObservationColumns = 11;
-constexpr int kEventColumns = 9;
-// trait_addition (migration 6), keyed by its first column (name): only in the station's bundles.
-constexpr int kTraitColumns = 5;
 
 // ---- session helpers ------------------------------------------------------------------------------------
 
@@ -144,6 +141,13 @@ std::string value_text(sqlite3_value* v) {
     return t ? std::string(reinterpret_cast<const char*>(t)) : "";
 }
 
+std::string received_before_with_other_content(std::string_view table, const std::string& origin_id,
+                                              const std::string& origin) {
+    return fmt::format("{} row {} of '{}' was received before with different content (a device database made again "
+                       "under the same name, or an edited bundle); the row already held is kept",
+                       table, origin_id, origin);
+}
+
 struct ApplyContext {
     sqlite3* db = nullptr;
     std::size_t duplicate_observations = 0;
@@ -183,10 +187,7 @@ int on_conflict(void* p, int type, sqlite3_changeset_iter* it) {
         sqlite3_value* id = nullptr;
         sqlite3changeset_new(it, 0, &origin);
         sqlite3changeset_new(it, 1, &id);
-        ctx->error = fmt::format(
-            "{} row {} of '{}' was received before with different content (a device database made again under "
-            "the same name, or an edited bundle); the row already held is kept",
-            table, value_text(id), value_text(origin));
+        ctx->error = received_before_with_other_content(table, value_text(id), value_text(origin));
         return SQLITE_CHANGESET_ABORT;
     }
     if (type == SQLITE_CHANGESET_FOREIGN_KEY) {
@@ -216,77 +217,11 @@ std::pair<std::size_t, std::size_t> apply_payload(sqlite3* db, const std::string
     return {ctx.duplicate_observations, ctx.duplicate_events};
 }
 
-// The framing of a changeset as this program writes them, checked byte by byte before SQLite's iterator
-// sees the payload: SQLite 3.40.1's sqlite3changeset_next does not return on some malformed inputs (found by
-// tests/fuzz/fuzz_bundle.cpp; the input is in its corpus). Format: the "changeset format" comment of
-// sqlite3session.h / ext/session/sqlite3session.c: a table header 'T', varint column count, one primary-key
-// flag byte per column (its 1-based place in the key, 0 when not in it), the NUL-terminated table name;
-// then records: the operation (here SQLITE_INSERT = 18 only), an "indirect" byte, and one value per column:
-// type 1 (integer) or 2 (real) with 8 bytes, 3 (text) or 4 (blob) with a varint length and the bytes, 5
-// (NULL). Returns "" when the framing holds, else why not.
-std::string changeset_framing_fault(std::string_view p) {
-    std::size_t i = 0;
-    auto varint = [&](std::uint64_t& v) {  // SQLite's varint: 1 to 9 bytes, big-endian 7-bit groups
-        v = 0;
-        for (int k = 0; k < 9; ++k) {
-            if (i >= p.size()) return false;
-            const auto b = static_cast<unsigned char>(p[i++]);
-            if (k == 8) {
-                v = (v << 8) | b;
-                return true;
-            }
-            v = (v << 7) | (b & 0x7f);
-            if (!(b & 0x80)) return true;
-        }
-        return true;
-    };
-    int ncol = 0;
-    while (i < p.size()) {
-        const char op = p[i++];
-        if (op == 'T') {
-            std::uint64_t n = 0;
-            if (!varint(n) || (n != std::uint64_t{kObservationColumns} && n != std::uint64_t{kEventColumns} &&
-                               n != std::uint64_t{kTraitColumns}))
-                return "has a table of an unknown shape";
-            ncol = static_cast<int>(n);
-            if (p.size() - i < n) return "ends inside a table header";
-            const int keys = ncol == kTraitColumns ? 1 : 2;  // (name) or (origin, origin_id)
-            for (int c = 0; c < ncol; ++c)
-                if (p[i + static_cast<std::size_t>(c)] != (c < keys ? c + 1 : 0)) return "keys a table otherwise than this program does";
-            i += n;
-            const std::size_t end = p.find('\0', i);
-            if (end == std::string_view::npos) return "ends inside a table name";
-            const std::string_view name = p.substr(i, end - i);
-            if (!((name == "sync_observation" && ncol == kObservationColumns) ||
-                  (name == "sync_plot_event" && ncol == kEventColumns) ||
-                  (name == "trait_addition" && ncol == kTraitColumns)))
-                return "names a table a bundle never changes";
-            i = end + 1;
-            continue;
-        }
-        if (ncol == 0) return "is not an SQLite changeset (no table header first)";
-        if (op != SQLITE_INSERT) return "updates or deletes rows (bundles only add rows)";
-        if (i >= p.size() || static_cast<unsigned char>(p[i]) > 1) return "is damaged (bad record flag)";
-        ++i;
-        for (int c = 0; c < ncol; ++c) {
-            if (i >= p.size()) return "ends inside a row";
-            const int type = p[i++];
-            std::uint64_t n = 0;
-            switch (type) {
-                case 1:
-                case 2: n = 8; break;
-                case 3:
-                case 4:
-                    if (!varint(n)) return "ends inside a row";
-                    break;
-                case 5: break;
-                default: return "is damaged (unknown value type)";
-            }
-            if (p.size() - i < n) return "ends inside a value";
-            i += static_cast<std::size_t>(n);
-        }
-    }
-    return "";
+void count_observation(PayloadSummary& sum, std::int64_t origin_id, bool correction) {
+    if (sum.observations == 0 || origin_id < sum.lowest_observation_id) sum.lowest_observation_id = origin_id;
+    if (sum.observations == 0 || origin_id > sum.highest_observation_id) sum.highest_observation_id = origin_id;
+    ++sum.observations;
+    if (correction) ++sum.corrections;
 }
 
 // The payload check of a handheld's bundle at the station, in one pass over the bytes: what
@@ -296,55 +231,160 @@ std::string changeset_framing_fault(std::string_view p) {
 // first, so it walks a well-framed payload; the refusals and their messages are check_bundle_payload's.
 PayloadSummary device_payload_summary(const Bundle& bundle, const std::string& source) {
     PayloadSummary sum;
-    const std::string_view p = bundle.payload;
     auto refuse = [&](const std::string& why) {
         throw BundleError(BundleFault::BadField, source + ": refused, nothing imported: the payload " + why);
     };
-    if (p.empty()) return sum;
-    if (const std::string why = changeset_framing_fault(p); !why.empty()) refuse(why);
-    std::size_t i = 0;
-    auto varint = [&]() {  // well framed: 1 to 9 bytes, big-endian 7-bit groups (changeset_framing_fault)
-        std::uint64_t v = 0;
-        for (int k = 0; k < 9; ++k) {
-            const auto b = static_cast<unsigned char>(p[i++]);
-            if (k == 8) return (v << 8) | b;
-            v = (v << 7) | (b & 0x7f);
-            if (!(b & 0x80)) break;
-        }
-        return v;
-    };
-    std::string_view table;
-    int ncol = 0;
-    bool obs = false;
-    while (i < p.size()) {
-        if (p[i] == 'T') {
-            ++i;
-            ncol = static_cast<int>(varint());
-            i += static_cast<std::size_t>(ncol);
-            const std::size_t end = p.find('\0', i);
-            table = p.substr(i, end - i);
-            i = end + 1;
-            obs = table == "sync_observation";
-            if (!obs && table != "sync_plot_event")
-                refuse(fmt::format("changes table '{}', which a bundle from the {} never does", table,
-                                   to_string(bundle.header.kind)));
-            continue;
-        }
-        i += 2;  // the operation (an INSERT) and the "indirect" flag
-        for (int c = 0; c < ncol; ++c) {
-            const int type = p[i++];
-            const std::uint64_t n = type == 1 || type == 2 ? 8 : type == 5 ? 0 : varint();
-            if (c == 0) {  // the origin: a text equal to the header's device
-                if (type != 3) refuse(fmt::format("has a {} row without an origin", table));
-                const std::string_view o = p.substr(i, static_cast<std::size_t>(n));
-                if (o != bundle.header.device)
-                    refuse(fmt::format("holds a row of device '{}' in a bundle of device '{}'", o, bundle.header.device));
-            }
-            i += static_cast<std::size_t>(n);
-        }
-        (obs ? sum.observations : sum.events) += 1;
+    if (bundle.payload.empty()) return sum;
+    if (const std::string why = changeset_framing_fault(bundle.payload); !why.empty()) refuse(why);
+    ChangesetRecords records(bundle.payload);
+    while (records.next()) {
+        const std::string_view table = records.table();
+        const bool obs = table == "sync_observation";
+        if (!obs && table != "sync_plot_event")
+            refuse(fmt::format("changes table '{}', which a bundle from the {} never does", table,
+                               to_string(bundle.header.kind)));
+        const ChangesetRecords::Value& origin = records.value(0);
+        if (origin.type != SQLITE_TEXT) refuse(fmt::format("has a {} row without an origin", table));
+        if (origin.bytes != bundle.header.device)
+            refuse(fmt::format("holds a row of device '{}' in a bundle of device '{}'", origin.bytes,
+                               bundle.header.device));
+        // Plain values reach no table with the sync tables' CHECK (origin_id >= 1): checked here, for all rows.
+        const ChangesetRecords::Value& id = records.value(1);
+        if (id.type != SQLITE_INTEGER || id.integer() < 1)
+            refuse(fmt::format("has a {} row whose origin id is not a whole number from 1 up", table));
+        if (obs) count_observation(sum, id.integer(), records.value(9).type != SQLITE_NULL);  // 9: supersedes
+        else ++sum.events;
     }
     return sum;
+}
+
+// ---- taking a handheld's rows in at the station ---------------------------------------------------------
+
+// Runs an INSERT of received rows into the station's tables; a row naming a plot or trait the trial does not
+// have, or breaking a rule of the table, refuses the bundle.
+void insert_received(Statement& st, const std::string& source) {
+    const int rc = st.run(true);
+    if (rc == SQLITE_OK) return;
+    if (rc == SQLITE_CONSTRAINT_FOREIGNKEY)
+        throw InputError(source + ": refused, nothing imported: a row names a plot or trait this trial does not have");
+    throw InputError(fmt::format("{}: refused, nothing imported: a received row breaks a rule of the database ({})",
+                                 source, sqlite3_errmsg(sqlite3_db_handle(st.get()))));
+}
+
+// Counts the rows `held` returns (origin, origin_id, same): rows of the bundle this database already holds,
+// each of which must be identical to what it holds.
+std::size_t count_duplicates(Statement& held, const char* table, const std::string& source) {
+    std::size_t n = 0;
+    for (; held.step(); ++n)
+        if (held.int64(2) == 0)
+            throw InputError(source + ": refused, nothing imported: " +
+                             received_before_with_other_content(table, std::to_string(held.int64(1)), held.text(0)));
+    return n;
+}
+
+struct Received {
+    std::size_t duplicate_observations = 0;
+    std::size_t duplicate_events = 0;
+    std::size_t values = 0;   // plain values made observations at once
+};
+
+// Takes a handheld's payload in at the station, inside the import's transaction, with set-based SQL over the
+// payload's rows (pw_received_observation / pw_received_plot_event, storage/changeset_rows.hpp):
+//   - A row whose origin key the station already holds must be what it holds (a received correction and
+//     every plot event are held in sync_*, a plain value as its observation and origin link): identical,
+//     it is a duplicate and left out; different, the bundle is refused.
+//   - Plot events are kept in sync_plot_event (materialize_events makes them plot events).
+//   - Corrections and withdrawals are kept in sync_observation: what each corrects is named by origin and
+//     may not have arrived yet (materialize_observations makes them observations once it has).
+//   - Plain values (superseding nothing) depend on nothing else: they become observations at once, numbered
+//     in origin_id order and linked to their origins, and are written nowhere else.
+// A step with no rows to take (no plot events, no corrections, no duplicates to leave out) is not run.
+Received take_in_received(sqlite3* db, const std::string& payload, const std::string& origin,
+                          const PayloadSummary& sum, const std::string& source) {
+    auto statement = [&](const std::string& sql) {
+        auto st = std::make_unique<Statement>(db, sql);
+        if (sqlite3_bind_blob64(st->get(), 1, payload.data(), payload.size(), SQLITE_STATIC) != SQLITE_OK)
+            sql::fail(db, "reading the payload");
+        return st;
+    };
+    Received r;
+    // Rows this origin already sent can only be in the bundle when the station holds an origin id of this origin
+    // within the bundle's range (two probes of the keys): the row by row check runs only then. A handheld
+    // exports what it did not export before, so its bundles' ranges never overlap, in any order of arrival.
+    bool may_hold = false;
+    if (sum.observations > 0) {
+        Statement probe(db,
+                        "SELECT EXISTS (SELECT 1 FROM observation_origin WHERE origin = ?1 AND origin_id BETWEEN ?2 AND "
+                        "?3) OR EXISTS (SELECT 1 FROM sync_observation WHERE origin = ?1 AND origin_id BETWEEN ?2 AND ?3)");
+        probe.bind(1, origin).bind(2, sum.lowest_observation_id).bind(3, sum.highest_observation_id);
+        probe.step();
+        may_hold = probe.int64(0) != 0;
+    }
+    if (may_hold) {
+        const auto held = statement(
+            "SELECT s.origin, s.origin_id, CASE WHEN h.origin IS NOT NULL THEN (h.plot IS s.plot AND h.trait IS s.trait "
+            "AND h.value IS s.value AND h.number IS s.number AND h.recorded_utc IS s.recorded_utc AND h.device IS "
+            "s.device AND h.observer IS s.observer AND h.supersedes IS s.supersedes AND h.note IS s.note) "
+            "ELSE (o.plot IS s.plot AND o.trait IS s.trait AND o.value IS s.value AND o.number IS s.number AND "
+            "o.recorded_utc IS s.recorded_utc AND o.device IS s.device AND o.observer IS s.observer AND s.supersedes "
+            "IS NULL AND o.supersedes IS NULL AND o.note IS s.note) END "
+            "FROM pw_received_observation(?1) AS s "
+            "LEFT JOIN sync_observation AS h ON h.origin = s.origin AND h.origin_id = s.origin_id "
+            "LEFT JOIN observation_origin AS x ON x.origin = s.origin AND x.origin_id = s.origin_id "
+            "LEFT JOIN observation AS o ON o.id = x.observation "
+            "WHERE h.origin IS NOT NULL OR x.origin IS NOT NULL ORDER BY s.origin_id");
+        r.duplicate_observations = count_duplicates(*held, "sync_observation", source);
+    }
+    if (sum.events > 0) {
+        const auto held = statement(
+            "SELECT s.origin, s.origin_id, (h.plot IS s.plot AND h.state IS s.state AND h.reason IS s.reason AND "
+            "h.recorded_utc IS s.recorded_utc AND h.device IS s.device AND h.observer IS s.observer AND h.flag IS "
+            "s.flag) FROM pw_received_plot_event(?1) AS s JOIN sync_plot_event AS h "
+            "ON h.origin = s.origin AND h.origin_id = s.origin_id ORDER BY s.origin_id");
+        r.duplicate_events = count_duplicates(*held, "sync_plot_event", source);
+        if (r.duplicate_events < sum.events)
+            insert_received(*statement("INSERT INTO sync_plot_event SELECT s.* FROM pw_received_plot_event(?1) AS s "
+                                       "WHERE NOT EXISTS (SELECT 1 FROM sync_plot_event AS h WHERE h.origin = s.origin "
+                                       "AND h.origin_id = s.origin_id) ORDER BY s.origin_id"),
+                            source);
+    }
+    if (r.duplicate_observations == sum.observations) return r;
+    // Rows held already are left out (only needed when count_duplicates found some).
+    const std::string not_held =
+        r.duplicate_observations == 0
+            ? ""
+            : " AND NOT EXISTS (SELECT 1 FROM sync_observation AS h WHERE h.origin = s.origin AND h.origin_id = "
+              "s.origin_id) AND NOT EXISTS (SELECT 1 FROM observation_origin AS x WHERE x.origin = s.origin AND "
+              "x.origin_id = s.origin_id)";
+    if (sum.corrections > 0)
+        insert_received(*statement("INSERT INTO sync_observation SELECT s.* FROM pw_received_observation(?1) AS s "
+                                   "WHERE s.supersedes IS NOT NULL" +
+                                   not_held + " ORDER BY s.origin_id"),
+                        source);
+    if (sum.corrections == sum.observations) return r;
+    // The plain values, numbered first + ord (ord: the row's place in the payload's key order, so the numbers
+    // follow origin_id, with a gap where a correction or a duplicate is left out); the links number them alike.
+    std::int64_t first = 1;
+    {
+        Statement top(db, "SELECT coalesce(max(id), 0) + 1 FROM observation");
+        top.step();
+        first = top.int64(0);
+    }
+    const std::string plain =
+        " FROM pw_received_observation(?1) AS s WHERE s.supersedes IS NULL" + not_held + " ORDER BY s.origin_id";
+    const auto values = statement("INSERT INTO observation (id, plot, trait, value, number, recorded_utc, device, "
+                                  "observer, note) SELECT ?2 + s.ord, s.plot, s.trait, s.value, s.number, "
+                                  "s.recorded_utc, s.device, s.observer, s.note" +
+                                  plain);
+    values->bind(2, first);
+    insert_received(*values, source);
+    r.values = static_cast<std::size_t>(sqlite3_changes(db));
+    const auto links = statement(
+        "INSERT INTO observation_origin (observation, origin, origin_id) SELECT ?2 + s.ord, s.origin, s.origin_id" +
+        plain);
+    links->bind(2, first);
+    insert_received(*links, source);
+    return r;
 }
 
 // ---- making received rows current ---------------------------------------------------------------------
@@ -374,8 +414,8 @@ Materialized materialize_observations(sqlite3* db, const std::string& origin) {
     // Rows of this origin not linked yet: each pass links some; none left means no further pass.
     std::int64_t unlinked = 0;
     {
-        Statement total(db, "SELECT (SELECT count(*) FROM sync_observation WHERE origin = ?1) - "
-                            "(SELECT count(*) FROM observation_origin WHERE origin = ?1)");
+        Statement total(db, "SELECT count(*) FROM sync_observation AS s WHERE s.origin = ?1 AND NOT EXISTS (SELECT 1 "
+                            "FROM observation_origin AS x WHERE x.origin = s.origin AND x.origin_id = s.origin_id)");
         total.bind(1, origin);
         total.step();
         unlinked = total.int64(0);
@@ -728,10 +768,10 @@ PayloadSummary check_bundle_payload(const Bundle& bundle, const std::string& sou
         const std::string name = table;
         if (name == "trait_addition" && !from_device) {  // a trait added at the station (migration 6)
             if (op != SQLITE_INSERT) refuse("updates or deletes trait_addition rows (bundles only add rows)");
-            if (ncol != kTraitColumns)
+            if (ncol != kTraitAdditionColumns)
                 refuse(fmt::format("has trait_addition rows of {} columns, this program's have {} (made by another "
                                    "version?)",
-                                   ncol, kTraitColumns));
+                                   ncol, kTraitAdditionColumns));
             unsigned char* pk = nullptr;
             int npk = 0;
             if (sqlite3changeset_pk(it, &pk, &npk) != SQLITE_OK || !pk || pk[0] == 0)
@@ -749,7 +789,7 @@ PayloadSummary check_bundle_payload(const Bundle& bundle, const std::string& sou
             refuse(fmt::format("changes table '{}', which a bundle from the {} never does", name,
                                to_string(bundle.header.kind)));
         if (op != SQLITE_INSERT) refuse(fmt::format("updates or deletes {} rows (bundles only add rows)", name));
-        const int expected = obs ? kObservationColumns : kEventColumns;
+        const int expected = obs ? kSyncObservationColumns : kSyncPlotEventColumns;
         if (ncol != expected)
             refuse(fmt::format("has {} rows of {} columns, this program's have {} (made by another version?)", name,
                                ncol, expected));
@@ -767,7 +807,18 @@ PayloadSummary check_bundle_payload(const Bundle& bundle, const std::string& sou
             refuse(fmt::format("holds a row of device '{}' in a bundle of device '{}'", o, bundle.header.device));
         if (!from_device && o == bundle.header.device)
             refuse(fmt::format("sends device '{}' its own plot events back", o));
-        (obs ? sum.observations : sum.events) += 1;
+        sqlite3_value* id = nullptr;
+        if (sqlite3changeset_new(it, 1, &id) != SQLITE_OK || !id || sqlite3_value_type(id) != SQLITE_INTEGER ||
+            sqlite3_value_int64(id) < 1)
+            refuse(fmt::format("has a {} row whose origin id is not a whole number from 1 up", name));
+        if (obs) {
+            sqlite3_value* supersedes = nullptr;
+            const bool correction = sqlite3changeset_new(it, 9, &supersedes) == SQLITE_OK && supersedes &&
+                                    sqlite3_value_type(supersedes) != SQLITE_NULL;
+            count_observation(sum, sqlite3_value_int64(id), correction);
+        } else {
+            ++sum.events;
+        }
     }
     if (rc != SQLITE_DONE) refuse("is damaged (SQLite could not read the changeset)");
     return sum;
@@ -829,25 +880,33 @@ ImportResult import_bundle(Store& store, std::string_view bytes, const std::stri
     const PayloadSummary sum = me ? check_bundle_payload(b, source) : device_payload_summary(b, source);
 
     WriteTransaction tx(db);
-    const int changes_before = sqlite3_total_changes(db);
-    const auto [dup_obs, dup_ev] = apply_payload(db, b.payload, source);
-    // On a handheld: traits added at the station, new here, become traits of the trial (every trait_addition
-    // row received before has its trait row, so those without one are this bundle's new ones).
-    r.traits = me ? materialize_added_traits(db, t.spec, source) : 0;
-    r.duplicates = dup_obs + dup_ev + (sum.traits - r.traits);
-    r.observations = sum.observations - dup_obs;
-    r.events = sum.events - dup_ev;
-    // Each new added trait is two rows: its trait_addition row and its trait row.
-    if (static_cast<std::size_t>(sqlite3_total_changes(db) - changes_before) !=
-        r.observations + r.events + 2 * r.traits)
-        throw InputError(fmt::format("{}: refused, nothing imported: {} rows in the payload, {} applied and {} already held",
-                                     source, sum.observations + sum.events, sqlite3_total_changes(db) - changes_before,
-                                     r.duplicates));
-    // Only the bundle's own device's rows can have become ready (a handheld's bundle; the station's bundle
-    // carries plot events only).
-    const Materialized m = me ? Materialized{} : materialize_observations(db, b.header.device);
-    r.applied = m.applied;
-    r.pending = m.pending;
+    if (me) {
+        const int changes_before = sqlite3_total_changes(db);
+        const auto [dup_obs, dup_ev] = apply_payload(db, b.payload, source);
+        // Traits added at the station, new here, become traits of the trial (every trait_addition row
+        // received before has its trait row, so those without one are this bundle's new ones).
+        r.traits = materialize_added_traits(db, t.spec, source);
+        r.duplicates = dup_obs + dup_ev + (sum.traits - r.traits);
+        r.observations = sum.observations - dup_obs;
+        r.events = sum.events - dup_ev;
+        // Each new added trait is two rows: its trait_addition row and its trait row.
+        if (static_cast<std::size_t>(sqlite3_total_changes(db) - changes_before) !=
+            r.observations + r.events + 2 * r.traits)
+            throw InputError(fmt::format("{}: refused, nothing imported: {} rows in the payload, {} applied and {} "
+                                         "already held",
+                                         source, sum.observations + sum.events,
+                                         sqlite3_total_changes(db) - changes_before, r.duplicates));
+    } else {
+        const Received in = take_in_received(db, b.payload, b.header.device, sum, source);
+        r.duplicates = in.duplicate_observations + in.duplicate_events;
+        r.observations = sum.observations - in.duplicate_observations;
+        r.events = sum.events - in.duplicate_events;
+        // Only the bundle's own device's corrections can have become ready (a correction corrects an
+        // observation of its own origin).
+        const Materialized m = materialize_observations(db, b.header.device);
+        r.applied = in.values + m.applied;
+        r.pending = m.pending;
+    }
     materialize_events(db, self);
     record_bundle(db, b.header, b.checksum_hex, now_utc, r.observations, r.events);
     nlohmann::json detail{{"file", std::filesystem::path(source).filename().string()},

@@ -10,12 +10,17 @@
 //               The station's bundle for a handheld is made the same way in an attached in-memory
 //               database: every plot event the handheld did not make, and every trait added at the
 //               station (trait_addition, storage/station_traits.hpp), which the handheld then records.
-//   import      the receiving side checks the bundle (checksum, trial, device, sequence) and applies the
-//               changeset with sqlite3changeset_apply to its own sync_* tables; the conflict handler
-//               never replaces a row (an identical row is skipped, a different one refuses the bundle).
-//               The received rows then become observations and plot events of the database, each linked
-//               to its origin (observation_origin, plot_event_origin). One transaction per bundle: a
-//               refused bundle leaves the database exactly as it was.
+//   import      the receiving side checks the bundle (checksum, trial, device, sequence) and reads the whole
+//               payload before writing. A handheld applies the station's changeset with
+//               sqlite3changeset_apply to its sync_plot_event and trait_addition; the conflict handler never
+//               replaces a row (an identical row is skipped, a different one refuses the bundle). The
+//               station takes a handheld's rows in with set-based SQL over the payload
+//               (storage/changeset_rows.hpp): rows it holds already must be identical (duplicates, left
+//               out) or the bundle is refused; plot events and corrections are kept in sync_*, plain values
+//               become observations at once. Received rows become observations and plot events of the
+//               database, each linked to its origin (observation_origin, plot_event_origin), a correction
+//               once what it corrects is there. One transaction per bundle: a refused bundle leaves the
+//               database exactly as it was.
 //
 // Every write here is one BEGIN IMMEDIATE ... COMMIT and appends to the audit log (storage/audit_log.hpp).
 #pragma once
@@ -105,7 +110,11 @@ ImportResult import_bundle(Store& store, std::string_view bytes, const std::stri
 struct PayloadSummary {
     std::size_t observations = 0;
     std::size_t events = 0;
-    std::size_t traits = 0;   // trait_addition rows (the station's bundles only)
+    std::size_t corrections = 0;   // observations that supersede one (corrections and withdrawals)
+    std::size_t traits = 0;        // trait_addition rows (the station's bundles only)
+    // The lowest and highest origin id among the observations (0 and 0 when there are none).
+    std::int64_t lowest_observation_id = 0;
+    std::int64_t highest_observation_id = 0;
 };
 PayloadSummary check_bundle_payload(const Bundle& bundle, const std::string& source);
 

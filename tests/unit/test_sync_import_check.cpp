@@ -5,15 +5,19 @@
 // Outside sources the checks rest on:
 //   - SQLite's session extension (https://www.sqlite.org/sessionintro.html): the payloads are changesets
 //     SQLite wrote, and check_bundle_payload reads them back with SQLite's own iterator
-//     (sqlite3changeset_next); its counts are the reference for the counts of the one-pass check.
+//     (sqlite3changeset_next); its counts, and the rows and values it reads, are the reference for the
+//     station's one-pass check and for its reader of the rows (storage/changeset_rows.hpp).
 //   - The file's raw bytes (std::ifstream) for "unchanged", and PRAGMA integrity_check through a plain
 //     sqlite3 connection for a sound file (https://www.sqlite.org/pragma.html#pragma_integrity_check).
 //   - The rule that every row of a handheld's bundle is that handheld's own (docs/sync.md, "Refusals").
 #include <catch2/catch.hpp>
 
+#define SQLITE_ENABLE_SESSION
+#define SQLITE_ENABLE_PREUPDATE_HOOK
 #include <sqlite3.h>
 
 #include <fstream>
+#include <map>
 #include <sstream>
 
 #include "core/design/layout.hpp"
@@ -127,6 +131,96 @@ TEST_CASE("The station counts a handheld bundle's observations and plot events a
     CHECK(r.events == sqlite_read.events);
     CHECK(r.applied == 3);
     CHECK(r.duplicates == 0);
+}
+
+namespace {
+
+// One value as "type:text" (SQLite's type codes, the text SQLite gives for it).
+std::string render(int type, const std::string& text) { return std::to_string(type) + ":" + text; }
+
+std::string render(sqlite3_value* v) {
+    const unsigned char* t = sqlite3_value_text(v);
+    return render(sqlite3_value_type(v), t ? reinterpret_cast<const char*>(t) : "");
+}
+
+}  // namespace
+
+// The station reads a handheld's rows from the changeset bytes with its own reader, through the table-valued
+// functions of storage/changeset_rows.hpp. References: SQLite's own changeset iterator over the same payload
+// (sqlite3changeset_next / sqlite3changeset_new), and the handheld's own tables the rows were copied from.
+TEST_CASE("The station reads every row and value of a payload as SQLite's changeset iterator does",
+          "[sync][import][payload]") {
+    TempDir dir;
+    const TrialSpec spec = parse_trial_spec(kSpec, "chk.toml");
+    Store station = Store::create(dir.file("station.db"), kSpec, "chk.toml", spec, design_trial(spec, 7),
+                                  "2026-06-01T07:00:00Z");
+    provision_device(station, "hh-1", dir.file("hh1.db"), "2026-06-01T08:00:00Z");
+    std::string payload;
+    {
+        Store hh = Store::open(dir.file("hh1.db"));
+        for (int plot : {101, 102, 201, 202}) hh.add_observation(value(plot, plot == 102 ? "0.25" : "4.5", "hh-1"));
+        NewObservation fix = value(101, "5.40", "hh-1");
+        fix.supersedes = 1;
+        fix.note = "re-weighed";
+        hh.add_observation(fix);
+        NewObservation undo = value(201, "1", "hh-1");
+        undo.value.clear();
+        undo.number.reset();
+        undo.supersedes = 3;
+        undo.note = "wrong plot";
+        hh.add_observation(undo);
+        hh.add_plot_event({202, PlotState::Damaged, "hail", "2026-06-01T09:30:00Z", "hh-1", "obs-hh-1", "damaged"});
+        payload = decode_bundle(export_of(hh), "hh1.bundle").payload;
+    }
+    // SQLite's iterator: each row as its values, by table, in origin_id order.
+    std::map<std::string, std::map<std::int64_t, std::string>> sqlite_rows;
+    {
+        sqlite3_changeset_iter* it = nullptr;
+        REQUIRE(sqlite3changeset_start(&it, static_cast<int>(payload.size()), payload.data()) == SQLITE_OK);
+        while (sqlite3changeset_next(it) == SQLITE_ROW) {
+            const char* table = nullptr;
+            int ncol = 0, op = 0, indirect = 0;
+            sqlite3changeset_op(it, &table, &ncol, &op, &indirect);
+            std::string row;
+            sqlite3_value* v = nullptr;
+            for (int c = 0; c < ncol; ++c) {
+                REQUIRE(sqlite3changeset_new(it, c, &v) == SQLITE_OK);
+                row += render(v) + "|";
+            }
+            sqlite3changeset_new(it, 1, &v);
+            sqlite_rows[table][sqlite3_value_int64(v)] = row;
+        }
+        REQUIRE(sqlite3changeset_finalize(it) == SQLITE_OK);
+    }
+    REQUIRE(sqlite_rows["sync_observation"].size() == 6);
+    REQUIRE(sqlite_rows["sync_plot_event"].size() == 1);
+    // The station's reader, through SQL on the station's own connection.
+    for (const auto& [table, function] : {std::pair{"sync_observation", "pw_received_observation"},
+                                          std::pair{"sync_plot_event", "pw_received_plot_event"}}) {
+        sqlite3_stmt* st = nullptr;
+        REQUIRE(sqlite3_prepare_v2(station.handle(),
+                                   (std::string("SELECT *, ord FROM ") + function + "(?1)").c_str(), -1, &st,
+                                   nullptr) == SQLITE_OK);
+        sqlite3_bind_blob(st, 1, payload.data(), static_cast<int>(payload.size()), SQLITE_STATIC);
+        std::map<std::int64_t, std::string> rows;
+        std::int64_t ord = 0, last_id = 0;
+        while (sqlite3_step(st) == SQLITE_ROW) {
+            const int n = sqlite3_column_count(st) - 1;
+            std::string row;
+            for (int c = 0; c < n; ++c) row += render(sqlite3_column_value(st, c)) + "|";
+            const std::int64_t id = sqlite3_column_int64(st, 1);
+            CHECK(id > last_id);                                   // in origin_id order
+            CHECK(sqlite3_column_int64(st, n) == ord++);           // ord: the place in that order
+            last_id = id;
+            rows[id] = row;
+        }
+        sqlite3_finalize(st);
+        CHECK(rows == sqlite_rows[table]);
+    }
+    // And what the handheld's table holds, value by value (the withdrawal's NULL number, the real 0.25).
+    const auto& obs = sqlite_rows["sync_observation"];
+    CHECK(obs.at(2) == "3:hh-1|1:2|1:102|3:grain_kg|3:0.25|2:0.25|3:2026-06-01T09:00:00Z|3:hh-1|3:obs-hh-1|5:|3:|");
+    CHECK(obs.at(6) == "3:hh-1|1:6|1:201|3:grain_kg|3:|5:|3:2026-06-01T09:00:00Z|3:hh-1|3:obs-hh-1|1:3|3:wrong plot|");
 }
 
 TEST_CASE("A handheld bundle holding another device's rows is refused at the station and changes nothing",

@@ -17,9 +17,13 @@
 #include <sqlite3.h>
 #include <stdlib.h>
 
+#include <algorithm>
 #include <filesystem>
 #include <fstream>
 #include <sstream>
+#include <tuple>
+
+#include <fmt/format.h>
 
 #include "core/design/layout.hpp"
 #include "core/error.hpp"
@@ -320,6 +324,57 @@ TEST_CASE("Refused bundles leave the station's file byte for byte as it was", "[
     CHECK(import_bundle(s, good, "good.bundle", "2026-06-02T13:00:00Z").observations == 1);
 }
 
+// A bundle whose rows the station holds already (its payload sent again under a new sequence number):
+// identical rows are duplicates and change nothing; a row with the same origin key and other content refuses
+// the whole bundle, leaving the file as it was (docs/sync.md, "Refusals").
+TEST_CASE("Rows the station holds already: identical ones are duplicates, a different one refuses the bundle",
+          "[sync][import][refuse]") {
+    TempDir dir;
+    {
+        Store station = make_station(dir.file("station.db"));
+        provision_device(station, "hh-1", dir.file("hh1.db"), "2026-06-01T08:00:00Z");
+    }
+    // The same handheld's database, copied before it recorded anything: the same origin ids again.
+    std::filesystem::copy_file(dir.file("hh1.db"), dir.file("hh1-copy.db"));
+    std::string first, other;
+    {
+        Store hh = Store::open(dir.file("hh1.db"));
+        const auto id = hh.add_observation(value(101, "grain_kg", "4.77", "hh-1", "2026-06-01T09:00:00Z"));
+        hh.add_observation(value(102, "grain_kg", "5.00", "hh-1", "2026-06-01T09:01:00Z"));
+        NewObservation fix = value(101, "grain_kg", "7.47", "hh-1", "2026-06-01T11:00:00Z");
+        fix.supersedes = id;
+        fix.note = "transposed digits";
+        hh.add_observation(fix);
+        hh.add_plot_event({102, PlotState::Damaged, "hail", "2026-06-01T11:05:00Z", "hh-1", "A. Mwangi", "damaged"});
+        first = export_to(hh, dir.file("1.bundle"));
+        Store copy = Store::open(dir.file("hh1-copy.db"));
+        copy.add_observation(value(101, "grain_kg", "9.99", "hh-1", "2026-06-01T09:00:00Z"));
+        other = export_to(copy, dir.file("other.bundle"));
+    }
+    auto as_seq = [](const std::string& bytes, std::uint64_t seq) {
+        Bundle b = decode_bundle(bytes, "b");
+        b.header.seq = seq;
+        return encode_bundle(b.header, b.payload);
+    };
+    Store s = Store::open(dir.file("station.db"));
+    CHECK(import_bundle(s, first, "1.bundle", "2026-06-02T13:00:00Z").observations == 3);
+    const char* const all = "SELECT * FROM observation ORDER BY id; SELECT * FROM plot_event ORDER BY id; "
+                            "SELECT * FROM observation_origin ORDER BY 1, 2; SELECT * FROM sync_observation ORDER BY 1, 2";
+    const std::string held = raw_rows(dir.file("station.db"), all);
+    const ImportResult again = import_bundle(s, as_seq(first, 2), "2.bundle", "2026-06-02T13:01:00Z");
+    CHECK_FALSE(again.already_imported);
+    CHECK(again.duplicates == 4);   // three observations (one a correction) and the plot event
+    CHECK(again.observations == 0);
+    CHECK(again.events == 0);
+    CHECK(raw_rows(dir.file("station.db"), all) == held);
+
+    const std::string before = file_bytes(dir.file("station.db"));
+    CHECK_THROWS_WITH(import_bundle(s, as_seq(other, 3), "3.bundle", "2026-06-02T13:02:00Z"),
+                      Catch::StartsWith("3.bundle: refused, nothing imported: sync_observation row 1 of 'hh-1' was "
+                                        "received before with different content"));
+    CHECK(file_bytes(dir.file("station.db")) == before);
+}
+
 TEST_CASE("A correction that arrives before what it corrects waits, and the gap is reported", "[sync][import][order]") {
     TempDir dir;
     {
@@ -350,6 +405,72 @@ TEST_CASE("A correction that arrives before what it corrects waits, and the gap 
     REQUIRE(cur.size() == 1);
     CHECK(cur[0].record.obs.value == "7.47");
     CHECK(unresolved_conflicts(s).empty());
+}
+
+// The rule (docs/sync.md, "Conflicts"): a plot and trait is in conflict when its values in force (current,
+// not a withdrawal, the plot not flagged missing, not resolved) hold more than one distinct value. The view
+// observation_conflict (SQL, migration 7) and unresolved_conflicts (the store's values in force, C++) must
+// both give the plots and traits this rule gives by hand for the cases below.
+TEST_CASE("The conflict view and the store list the same conflicts, the ones the rule gives", "[sync][conflicts]") {
+    TempDir dir;
+    std::vector<int> p;
+    {
+        Store station = make_station(dir.file("station.db"));
+        for (const auto& pl : station.trial().layout.plots) p.push_back(pl.id);
+        for (const char* d : {"hh-1", "hh-2", "hh-3"})
+            provision_device(station, d, dir.file(std::string(d) + ".db"), "2026-06-01T08:00:00Z");
+    }
+    REQUIRE(p.size() >= 4);
+    auto record = [&](const char* device, const std::vector<std::tuple<int, const char*, const char*>>& values) {
+        Store hh = Store::open(dir.file(std::string(device) + ".db"));
+        std::vector<std::int64_t> ids;
+        for (const auto& [plot, trait, v] : values)
+            ids.push_back(hh.add_observation(value(plot, trait, v, device, "2026-06-01T09:00:00Z")));
+        return ids;
+    };
+    record("hh-1", {{p[0], "grain_kg", "4.77"}, {p[0], "stand", "10"}, {p[1], "grain_kg", "5.00"}, {p[1], "stand", "20"},
+                    {p[2], "grain_kg", "3.00"}, {p[2], "stand", "6"}, {p[3], "grain_kg", "2.00"}, {p[3], "stand", "8"}});
+    const auto hh2 = record("hh-2", {{p[0], "grain_kg", "4.87"}, {p[0], "stand", "12"}, {p[1], "grain_kg", "5.00"},
+                                     {p[2], "grain_kg", "3.10"}, {p[2], "stand", "7"}, {p[3], "grain_kg", "2.50"},
+                                     {p[3], "stand", "9"}});
+    record("hh-3", {{p[2], "grain_kg", "3.20"}});
+    {
+        Store hh = Store::open(dir.file("hh-2.db"));
+        NewObservation undo = value(p[0], "stand", "0", "hh-2", "2026-06-01T10:00:00Z");  // withdraws its 12
+        undo.value.clear();
+        undo.number.reset();
+        undo.supersedes = hh2[1];
+        undo.note = "counted the wrong plot";
+        hh.add_observation(undo);
+        Store hh3 = Store::open(dir.file("hh-3.db"));
+        hh3.add_plot_event({p[3], PlotState::Missing, "washed out", "2026-06-01T11:00:00Z", "hh-3", "C. Ruiz", "missing"});
+    }
+    Store s = Store::open(dir.file("station.db"));
+    for (const char* d : {"hh-1", "hh-2", "hh-3"}) {
+        Store hh = Store::open(dir.file(std::string(d) + ".db"));
+        import_bundle(s, export_to(hh, dir.file(std::string(d) + ".bundle")), std::string(d) + ".bundle",
+                      "2026-06-02T13:00:00Z");
+    }
+    Resolution r;
+    r.plot = p[2];
+    r.trait = "stand";
+    r.value = "7";
+    r.reason = "counted again";
+    r.observer = "manager";
+    r.now_utc = "2026-06-03T08:00:00Z";
+    resolve_conflict(s, r);
+    // By hand: grain_kg of p0 (4.77, 4.87) and of p2 (3.00, 3.10, 3.20). Not: stand of p0 (12 withdrawn),
+    // p1 (equal values; one value), stand of p2 (resolved), p3 (flagged missing).
+    std::vector<std::pair<int, int>> want{{p[0], 2}, {p[2], 3}};  // plot, values in force (all distinct)
+    std::sort(want.begin(), want.end());
+    std::string expected;
+    for (const auto& [plot, n] : want) expected += fmt::format("{}|grain_kg|{}|{}\n", plot, n, n);
+    CHECK(raw_rows(dir.file("station.db"), "SELECT * FROM observation_conflict ORDER BY plot, trait") == expected);
+    std::string listed;
+    auto conflicts = unresolved_conflicts(s);
+    std::sort(conflicts.begin(), conflicts.end(), [](const auto& a, const auto& b) { return a.plot < b.plot; });
+    for (const auto& c : conflicts) listed += fmt::format("{}|{}|{}|{}\n", c.plot, c.trait, c.values.size(), c.values.size());
+    CHECK(listed == expected);
 }
 
 TEST_CASE("Plot states from the station reach a handheld and are not sent back", "[sync][station-bundle]") {
