@@ -862,6 +862,45 @@ void read_yields(const Reader& r, const toml::table& root, TrialSpec& spec) {
     }
 }
 
+// True when `name` is in `text` as a whole word (not inside a longer run of letters and digits), ignoring
+// ASCII case.
+bool names_word(std::string_view text, std::string_view name) {
+    if (name.empty()) return false;
+    auto lower = [](char c) { return static_cast<char>(std::tolower(static_cast<unsigned char>(c))); };
+    auto alnum = [](char c) { return std::isalnum(static_cast<unsigned char>(c)) != 0; };
+    for (std::size_t i = 0; i + name.size() <= text.size(); ++i) {
+        std::size_t k = 0;
+        while (k < name.size() && lower(text[i + k]) == lower(name[k])) ++k;
+        if (k == name.size() && (i == 0 || !alnum(text[i - 1])) &&
+            (i + k == text.size() || !alnum(text[i + k])))
+            return true;
+    }
+    return false;
+}
+
+// On a blind trial an added trait's texts reach the handhelds (docs/station.md): none may name a treatment
+// or a factor level.
+void refuse_treatment_names(const Reader& r, const toml::table& table, std::size_t index, const TraitSpec& t,
+                            const TrialSpec& trial) {
+    std::vector<std::string_view> names;
+    for (const TreatmentSpec& tr : trial.treatments) names.push_back(tr.label);
+    for (const FactorSpec& f : trial.factors)
+        for (const std::string& level : f.levels) names.push_back(level);
+    auto check = [&](const char* key, const std::string& text) {
+        for (std::string_view name : names)
+            if (names_word(text, name)) {
+                const toml::node* at = table.get(key);
+                r.fail(at ? *at : static_cast<const toml::node&>(table), fmt::format("traits[{}].{}", index + 1, key),
+                       fmt::format("'{}' names the treatment '{}'; trial {} is blind and an added trait's texts reach "
+                                   "its handhelds: leave treatment names out",
+                                   text, name, trial.code));
+            }
+    };
+    check("label", t.label);
+    check("unit", t.unit);
+    for (const std::string& l : t.score_labels) check("labels", l);
+}
+
 }  // namespace
 
 std::vector<AddedTraitTable> parse_added_traits(const std::string& toml_text, const std::string& source_name,
@@ -896,6 +935,7 @@ std::vector<AddedTraitTable> parse_added_traits(const std::string& toml_text, co
                 r.fail(name_node, key,
                        fmt::format("'{}' is the name of a yield of trial {}; an added trait needs a name of its own",
                                    y.name, trial.code));
+        if (trial.blind) refuse_treatment_names(r, table, i, traits[i], trial);
         // The table on its own, written by toml++ from the parsed values (comments are not kept: on a blind
         // trial the text travels to the handhelds).
         toml::table doc;

@@ -361,6 +361,22 @@ TEST_CASE("A blind trial's handheld receives an added trait without the trait fi
     REQUIRE(bytes.find("lodging_score") != std::string::npos);   // the search finds what is there
     CHECK(bytes.find("Hybrid Zeta") == std::string::npos);
     CHECK(bytes.find("Local check") == std::string::npos);
+
+    // A trait whose label or score labels name a treatment would carry it to the handhelds: refused, naming
+    // the file, line and key (whole words, any case; "Zetas" is another word).
+    Store station = Store::open(dir.file("station.db"));
+    CHECK_THROWS_WITH(add_traits(station, "[[traits]]\nname = \"vigour\"\nlabel = \"vigour vs hybrid zeta\"\nkind = \"count\"\nunit = \"plants\"\n",
+                                 "leak.toml", "M. Banda", "2026-06-12T08:00:00Z"),
+                      Catch::StartsWith("leak.toml:3") && Catch::Contains("traits[1].label") &&
+                          Catch::Contains("names the treatment 'Hybrid Zeta'"));
+    CHECK_THROWS_WITH(add_traits(station,
+                                 "[[traits]]\nname = \"tone\"\nkind = \"score\"\nmin = 1\nmax = 2\n"
+                                 "labels = [\"paler\", \"like Local check\"]\n",
+                                 "leak.toml", "M. Banda", "2026-06-12T08:00:00Z"),
+                      Catch::Contains("traits[1].labels") && Catch::Contains("'Local check'"));
+    CHECK(add_traits(station, "[[traits]]\nname = \"zetas\"\nlabel = \"Zetas per plot\"\nkind = \"count\"\nunit = \"plants\"\n",
+                     "ok.toml", "M. Banda", "2026-06-12T08:00:00Z")
+              .size() == 1);
 }
 
 TEST_CASE("Databases made by the schema-5 program migrate with their audit log as it was, and take added traits",
