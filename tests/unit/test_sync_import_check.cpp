@@ -93,6 +93,21 @@ NewObservation value(int plot, const std::string& v, const std::string& device) 
     return o;
 }
 
+// The station of kSpec, with handheld hh-1 provisioned (hh1.db).
+Store station_with_handheld(const TempDir& dir) {
+    const TrialSpec spec = parse_trial_spec(kSpec, "chk.toml");
+    Store station = Store::create(dir.file("station.db"), kSpec, "chk.toml", spec, design_trial(spec, 7),
+                                  "2026-06-01T07:00:00Z");
+    provision_device(station, "hh-1", dir.file("hh1.db"), "2026-06-01T08:00:00Z");
+    return station;
+}
+
+// One value as "type:text" (SQLite's type codes, the text SQLite gives for it).
+std::string render(sqlite3_value* v) {
+    const unsigned char* t = sqlite3_value_text(v);
+    return std::to_string(sqlite3_value_type(v)) + ":" + (t ? reinterpret_cast<const char*>(t) : "");
+}
+
 std::string export_of(Store& s) {
     std::string bytes;
     export_bundle(s, "", "2026-06-02T12:00:00Z", [&](const std::string& b) { bytes = b; });
@@ -104,10 +119,7 @@ std::string export_of(Store& s) {
 TEST_CASE("The station counts a handheld bundle's observations and plot events as SQLite's changeset reader does",
           "[sync][import][payload]") {
     TempDir dir;
-    const TrialSpec spec = parse_trial_spec(kSpec, "chk.toml");
-    Store station = Store::create(dir.file("station.db"), kSpec, "chk.toml", spec, design_trial(spec, 7),
-                                  "2026-06-01T07:00:00Z");
-    provision_device(station, "hh-1", dir.file("hh1.db"), "2026-06-01T08:00:00Z");
+    Store station = station_with_handheld(dir);
     std::string bundle;
     {
         Store hh = Store::open(dir.file("hh1.db"));
@@ -133,28 +145,13 @@ TEST_CASE("The station counts a handheld bundle's observations and plot events a
     CHECK(r.duplicates == 0);
 }
 
-namespace {
-
-// One value as "type:text" (SQLite's type codes, the text SQLite gives for it).
-std::string render(int type, const std::string& text) { return std::to_string(type) + ":" + text; }
-
-std::string render(sqlite3_value* v) {
-    const unsigned char* t = sqlite3_value_text(v);
-    return render(sqlite3_value_type(v), t ? reinterpret_cast<const char*>(t) : "");
-}
-
-}  // namespace
-
 // The station reads a handheld's rows from the changeset bytes with its own reader, through the table-valued
 // functions of storage/changeset_rows.hpp. References: SQLite's own changeset iterator over the same payload
 // (sqlite3changeset_next / sqlite3changeset_new), and the handheld's own tables the rows were copied from.
 TEST_CASE("The station reads every row and value of a payload as SQLite's changeset iterator does",
           "[sync][import][payload]") {
     TempDir dir;
-    const TrialSpec spec = parse_trial_spec(kSpec, "chk.toml");
-    Store station = Store::create(dir.file("station.db"), kSpec, "chk.toml", spec, design_trial(spec, 7),
-                                  "2026-06-01T07:00:00Z");
-    provision_device(station, "hh-1", dir.file("hh1.db"), "2026-06-01T08:00:00Z");
+    Store station = station_with_handheld(dir);
     std::string payload;
     {
         Store hh = Store::open(dir.file("hh1.db"));

@@ -451,14 +451,7 @@ TEST_CASE("The conflict view and the store list the same conflicts, the ones the
         import_bundle(s, export_to(hh, dir.file(std::string(d) + ".bundle")), std::string(d) + ".bundle",
                       "2026-06-02T13:00:00Z");
     }
-    Resolution r;
-    r.plot = p[2];
-    r.trait = "stand";
-    r.value = "7";
-    r.reason = "counted again";
-    r.observer = "manager";
-    r.now_utc = "2026-06-03T08:00:00Z";
-    resolve_conflict(s, r);
+    resolve_conflict(s, {p[2], "stand", "7", std::nullopt, "counted again", "manager", "2026-06-03T08:00:00Z"});
     // By hand: grain_kg of p0 (4.77, 4.87) and of p2 (3.00, 3.10, 3.20). Not: stand of p0 (12 withdrawn),
     // p1 (equal values; one value), stand of p2 (resolved), p3 (flagged missing).
     std::vector<std::pair<int, int>> want{{p[0], 2}, {p[2], 3}};  // plot, values in force (all distinct)
