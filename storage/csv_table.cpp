@@ -12,6 +12,8 @@
 // rule 6), quotes doubled inside (rule 7) by libcsv's csv_write; records end with CRLF (rule 1).
 #include "storage/csv_table.hpp"
 
+#include <algorithm>
+
 #include <csv.h>
 
 #include <memory>
@@ -68,8 +70,16 @@ struct ParserCloser {
 }  // namespace
 
 std::size_t CsvTable::column(const std::string& name, const std::string& source) const {
-    for (std::size_t i = 0; i < header.size(); ++i)
-        if (header[i] == name) return i;
+    const auto found = std::find(header.begin(), header.end(), name);
+    if (found != header.end()) {
+        // RFC 4180 lets a header repeat a name; then the name does not say which column is meant.
+        const auto again = std::find(found + 1, header.end(), name);
+        if (again != header.end())
+            throw InputError(source + ": the header names column '" + name + "' more than once (fields " +
+                             std::to_string(found - header.begin() + 1) + " and " +
+                             std::to_string(again - header.begin() + 1) + "); give each column its own name");
+        return static_cast<std::size_t>(found - header.begin());
+    }
     std::string present;
     for (const std::string& h : header) present += (present.empty() ? "" : ", ") + h;
     throw InputError(source + ": no column named '" + name + "' (columns present: " + present + ")");

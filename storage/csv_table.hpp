@@ -9,7 +9,8 @@ namespace pw {
 struct CsvTable {
     std::vector<std::string> header;
     std::vector<std::vector<std::string>> rows;   // each the same length as header
-    // Index of a named column; throws InputError naming `source` and listing the columns present.
+    // Index of a named column; throws InputError naming `source` and listing the columns present, or naming
+    // the fields when the header gives the name to more than one column.
     std::size_t column(const std::string& name, const std::string& source) const;
 };
 

@@ -113,9 +113,14 @@ TEST_CASE("RFC 4180 section 2 rule 3: a header line with as many fields as the r
         CHECK_THROWS_AS(parse_csv("plot,block\r\n101\r\n", "plots.csv"), InputError);
     }
     SECTION("a column is found by name, or the columns present are listed") {
-        CHECK(t.column("field_name", "rule3.csv") == 0);
+        CHECK(parse_csv("plot,block\r\n", "p.csv").column("block", "p.csv") == 1);
         CHECK_THROWS_WITH(parse_csv("plot,block\r\n", "p.csv").column("yield", "p.csv"),
                           Catch::Contains("p.csv") && Catch::Contains("'yield'") && Catch::Contains("plot, block"));
+    }
+    SECTION("the RFC's header repeats its name: asked for by that name, the column is ambiguous and refused") {
+        CHECK_THROWS_WITH(t.column("field_name", "rule3.csv"),
+                          Catch::Contains("rule3.csv") && Catch::Contains("more than once") &&
+                              Catch::Contains("fields 1 and 2"));
     }
     SECTION("empty text has no header and is refused") {
         CHECK_THROWS_WITH(parse_csv("", "empty.csv"), Catch::Contains("empty.csv") && Catch::Contains("header"));
