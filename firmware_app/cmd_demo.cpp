@@ -54,7 +54,7 @@ double normal(Rng& rng) {
 // each block further up the gradient adds a little, and every plot has its own noise.
 class Simulator {
 public:
-    Simulator(const TrialSpec& spec) : spec_(spec), rng_(kSimulationSeed) {
+    explicit Simulator(const TrialSpec& spec) : rng_(kSimulationSeed) {
         for (std::size_t i = 0; i < spec.treatments.size(); ++i) effect_.push_back(0.07 * normal(rng_));
     }
 
@@ -81,7 +81,6 @@ public:
     }
 
 private:
-    const TrialSpec& spec_;
     Rng rng_;
     std::vector<double> effect_;
 };
