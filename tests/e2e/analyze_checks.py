@@ -9,6 +9,9 @@ Usage:
 Each case runs the real executable with --json, then fits the design's model in R (aov with Error() strata
 for split and strip plots, lm with the terms in the same order otherwise) on the same data, and requires
 every ANOVA row (df, SS, F, p) to agree to 9 significant digits (p to 1e-8 relative, or 1e-300 absolute).
+For the single-stratum designs of `db` (all but split and strip plots), each recorded plot's leverage and
+standardized residual must be R's hatvalues and rstandard of the same lm fit (to 1e-9 absolute; rstandard
+to 1e-7 relative), and none where the leverage is 1.
 Exit 77 (ctest SKIP_RETURN_CODE) when Rscript is not installed.
 """
 import csv
@@ -36,19 +39,50 @@ emit <- function(tab, rename = identity) {
     cat("\n")
   }
 }
+# One line per plot of a single-stratum fit: leverage (hatvalues) and standardized residual (rstandard).
+emit_plots <- function(m, d) {
+  cat(sprintf("H\t%s\t%.17g\t%.17g\n", as.character(d$plot), hatvalues(m), rstandard(m)), sep = "")
+}
 '''
 
 
-def r_rows(script, workdir):
+def r_rows(script, workdir, plots=None):
+    """R's ANOVA rows by term; R's per-plot lines (emit_plots) go into `plots` when given."""
     path = workdir / "model.R"
     path.write_text(R_ROWS + script)
     p = run(["Rscript", "--vanilla", path])
     rows = {}
     for line in p.stdout.strip().splitlines():
+        if line.startswith("H\t"):
+            _, plot, h, rs = line.split("\t")
+            plots[plot] = (float(h), float(rs))
+            continue
         term, df, ss, f, pv = line.split("\t")
         val = lambda s: None if s in ("NA", "NaN") else float(s)
         rows[term] = {"df": int(df), "ss": val(ss), "f": val(f), "p": val(pv)}
     return rows
+
+
+def compare_plots(result, rplots):
+    """Each recorded plot's leverage and standardized residual against R's hatvalues and rstandard (R 4.2.2).
+    R gives NaN (0/0) or an infinite rstandard where the leverage is 1; plotwright gives none (null)."""
+    n = 0
+    for p in result["plots"]:
+        if p["y"] is None:
+            continue
+        h, rs = rplots[str(p["plot"])]
+        if abs(p["leverage"] - h) > 1e-9:
+            fail(f"plot {p['plot']}: leverage {p['leverage']!r}, R hatvalues {h!r}")
+        if not math.isfinite(rs) or abs(1 - h) < 1e-9:
+            if p["standardized_residual"] is not None:
+                fail(f"plot {p['plot']}: leverage 1, expected no standardized residual, got {p['standardized_residual']!r}")
+        elif p["standardized_residual"] is None or not close(p["standardized_residual"], rs, 1e-7) and \
+                abs(p["standardized_residual"] - rs) > 1e-9:
+            fail(f"plot {p['plot']}: standardized residual {p['standardized_residual']!r}, R rstandard {rs!r}")
+        n += 1
+    if n != len(rplots):
+        fail(f"compared {n} plots, R fitted {len(rplots)}")
+    print(f"ok: leverage and standardized residual of {n} plots as R's hatvalues and rstandard")
 
 
 def close(got, want, tol):
@@ -243,24 +277,25 @@ def db_case(layout, pw, work):
         script = head + (f'chk <- c({", ".join(json.dumps(c) for c in sorted(checks))})\n'
                          'd$group <- factor(d$treatment %in% chk)\n'
                          'd$check <- factor(ifelse(d$treatment %in% chk, as.character(d$treatment), "new"))\n'
-                         'emit(anova(lm(y ~ block + group + check + treatment, data = d)))\n')
+                         'm <- lm(y ~ block + group + check + treatment, data = d); emit(anova(m)); emit_plots(m, d)\n')
         mapping = {"block": "block", "checks vs new entries": "group", "checks": "check",
                    "new entries": "treatment", "residual": "Residuals"}
     elif design == "alpha":
         script = head + ('d$rep <- factor(d$rep); d$iblock <- factor(d$iblock)\n'
-                         'emit(anova(lm(terms(y ~ rep + rep:iblock + treatment, keep.order = TRUE), data = d)))\n')
+                         'm <- lm(terms(y ~ rep + rep:iblock + treatment, keep.order = TRUE), data = d)\n'
+                         'emit(anova(m)); emit_plots(m, d)\n')
         mapping = {"replicate": "rep", "block (within replicate)": "rep:iblock", "entry": "treatment",
                    "residual": "Residuals"}
     elif design == "latin":
         script = head + ('d$srow <- factor(d$srow); d$scol <- factor(d$scol)\n'
-                         'emit(anova(lm(y ~ srow + scol + treatment, data = d)))\n')
+                         'm <- lm(y ~ srow + scol + treatment, data = d); emit(anova(m)); emit_plots(m, d)\n')
         mapping = {"row": "srow", "column": "scol", "treatment": "treatment", "residual": "Residuals"}
     else:  # crd, rcbd, paired; factorial treatments with an optional extra control
         blk = "" if design == "crd" else "block + "
         if factors:
             fs = " * ".join(f"F{k}" for k in range(len(factors)))
             ctrl = "ctrl + " if any(len(r["treatment"].split(" \u00d7 ")) != len(factors) for r in rows) else ""
-            script = head + f'emit(anova(lm(y ~ {blk}{ctrl}{fs}, data = d)))\n'
+            script = head + f'm <- lm(y ~ {blk}{ctrl}{fs}, data = d); emit(anova(m)); emit_plots(m, d)\n'
             mapping = {"residual": "Residuals"}
             if design != "crd":
                 mapping["block"] = "block"
@@ -272,11 +307,14 @@ def db_case(layout, pw, work):
             if len(names) == 2:
                 mapping[f"{names[0]}:{names[1]}"] = "F0:F1"
         else:
-            script = head + f'emit(anova(lm(y ~ {blk}treatment, data = d)))\n'
+            script = head + f'm <- lm(y ~ {blk}treatment, data = d); emit(anova(m)); emit_plots(m, d)\n'
             mapping = {"treatment": "treatment", "residual": "Residuals"}
             if design != "crd":
                 mapping["block"] = "block"
-    compare(result, r_rows(script, work), mapping)
+    rplots = {}
+    compare(result, r_rows(script, work, rplots), mapping)
+    if design not in ("split", "strip"):  # single-stratum fits: R's hatvalues and rstandard apply
+        compare_plots(result, rplots)
     print(f"ok: {layout.name}: {design} analysed from the database as R fits it")
 
 
