@@ -10,11 +10,19 @@
 #include "storage/csv_table.hpp"
 #include "storage/store.hpp"
 #include "storage/sync_conflicts.hpp"
+#include "storage/trait_values.hpp"
 
 namespace pw {
 namespace {
 
 std::string trait_heading(const TraitSpec& t) { return t.unit.empty() ? t.name : t.name + " [" + t.unit + "]"; }
+
+// The spec's yields, computed per plot from the resolved values (storage/trait_values.hpp), in spec order.
+std::vector<TraitValues> yields_of(const StoredTrial& t, const ResolvedObservations& res) {
+    std::vector<TraitValues> out;
+    for (const YieldSpec& y : t.spec.yields) out.push_back(trait_values(t, res, y.name));
+    return out;
+}
 
 }  // namespace
 
@@ -42,6 +50,8 @@ TableExport export_wide_csv(const Store& store) {
     std::vector<std::string> header = {"plot", "block", "row", "col", "treatment"};
     header.insert(header.end(), t.layout.columns.begin(), t.layout.columns.end());
     for (const TraitSpec& tr : t.spec.traits) header.push_back(trait_heading(tr));
+    const std::vector<TraitValues> yields = yields_of(t, res);
+    for (const TraitValues& y : yields) header.push_back(trait_heading(y.trait));
     TableExport out;
     out.unresolved = res.conflicts.size();
     out.text = csv_record(header);
@@ -53,6 +63,10 @@ TableExport export_wide_csv(const Store& store) {
         for (const TraitSpec& tr : t.spec.traits) {
             auto it = value.find({p.id, tr.name});
             rec.push_back(it == value.end() ? "" : it->second);
+        }
+        for (const TraitValues& y : yields) {
+            auto it = y.values.find(p.id);
+            rec.push_back(it == y.values.end() ? "" : it->second.obs.value);
         }
         out.text += csv_record(rec);
     }
@@ -86,9 +100,27 @@ TableExport export_json(const Store& store) {
                        {"origin", res.origins[i].first},
                        {"origin_id", res.origins[i].second}});
     }
+    // Yields: computed, never recorded; each plot's value from the resolved weight and moisture.
+    nlohmann::json yields = nlohmann::json::array();
+    for (const TraitValues& y : yields_of(t, res)) {
+        nlohmann::json values = nlohmann::json::array();
+        for (const auto& [plot, rec] : y.values)
+            values.push_back({{"plot", plot}, {"value", rec.obs.value}, {"number", *rec.obs.number}});
+        yields.push_back({{"name", y.trait.name},
+                          {"label", y.trait.label},
+                          {"unit", y.trait.unit},
+                          {"heading", trait_heading(y.trait)},
+                          {"weight", y.yield->weight},
+                          {"moisture", y.yield->moisture.empty() ? nlohmann::json(nullptr) : nlohmann::json(y.yield->moisture)},
+                          {"standard_moisture_pct", y.yield->standard_moisture_pct
+                                                        ? nlohmann::json(*y.yield->standard_moisture_pct)
+                                                        : nlohmann::json(nullptr)},
+                          {"values", values}});
+    }
     nlohmann::json j{{"format", "plotwright-observations/1"},
                      {"trial", {{"code", t.spec.code}, {"title", t.spec.title}, {"design", t.spec.design}, {"blind", t.spec.blind}}},
                      {"traits", traits},
+                     {"yields", yields},
                      {"unresolved_conflicts", res.conflicts.size()},
                      {"conflicts", conflicts},
                      {"observations", obs}};

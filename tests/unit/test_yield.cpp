@@ -15,9 +15,13 @@
 
 #include <string>
 
+#include <fmt/format.h>
+#include <nlohmann/json.hpp>
+
 #include "core/design/layout.hpp"
 #include "core/error.hpp"
 #include "core/traits/yield.hpp"
+#include "storage/export_tables.hpp"
 #include "storage/store.hpp"
 #include "storage/sync_conflicts.hpp"
 #include "storage/trait_values.hpp"
@@ -25,6 +29,7 @@
 
 using namespace pw;
 using Catch::Matchers::Contains;
+using Catch::Matchers::EndsWith;
 
 namespace {
 
@@ -283,6 +288,26 @@ TEST_CASE("Yields are computed from a trial database's values in force", "[yield
     CHECK(y1.obs.recorded_utc == "2026-09-10T09:05:00Z");
     CHECK_THAT(v.not_computed.at(p2), Contains("no moisture"));
     CHECK(v.not_computed.count(p3) == 0);  // nothing weighed: simply no value
+
+    // The exports carry the yield after the traits: a column of the wide CSV headed with its unit, and the
+    // JSON's "yields" (computed from the same values in force).
+    const std::string wide = export_wide_csv(store).text;
+    const std::string header = wide.substr(0, wide.find("\r\n"));
+    CHECK_THAT(header, EndsWith(",yield_t_ha [t/ha]"));
+    for (const std::string& line : {fmt::format("\r\n{},", p1), fmt::format("\r\n{},", p2)}) {
+        const std::size_t at = wide.find(line);
+        REQUIRE(at != std::string::npos);
+        const std::string row = wide.substr(at + 2, wide.find("\r\n", at + 2) - at - 2);
+        CHECK(row.substr(row.rfind(',') + 1) == (line == fmt::format("\r\n{},", p1) ? "3.148" : ""));
+    }
+    const nlohmann::json j = nlohmann::json::parse(export_json(store).text);
+    REQUIRE(j["yields"].size() == 1);
+    CHECK(j["yields"][0]["name"] == "yield_t_ha");
+    CHECK(j["yields"][0]["heading"] == "yield_t_ha [t/ha]");
+    CHECK(j["yields"][0]["standard_moisture_pct"] == 15.5);
+    REQUIRE(j["yields"][0]["values"].size() == 1);
+    CHECK(j["yields"][0]["values"][0]["plot"] == p1);
+    CHECK(j["yields"][0]["values"][0]["value"] == "3.148");
 
     // A recorded trait comes through as recorded; an unknown name is refused with the names there are.
     CHECK(trait_values(store.trial(), resolved_observations(store), "grain_kg").values.size() == 2);
