@@ -280,8 +280,13 @@ TEST_CASE("Plot ids are block*100 + position, or block*1000 + position past 99 p
 
 TEST_CASE("Over many seeds each treatment falls in each position about equally often", "[design][rcbd][stats]") {
     // Under a uniform random permutation per block, each of the t x t treatment-by-position counts has
-    // expectation (seeds x blocks) / t; Pearson's statistic on the table with fixed margins has (t-1)^2 degrees
-    // of freedom. Critical value: Boost.Math chi_squared((t-1)^2) quantile 0.999. Fixed seed list 1..2000.
+    // expectation n / t, n = seeds x blocks permutations. The counts are a sum of n independent permutation
+    // matrices, not a multinomial table: one uniform permutation matrix has cell covariance
+    // (1/(t-1)) (I - J/t) (x) (I - J/t) (worked from P(cell) = 1/t and P(two cells) = 1/(t(t-1)) off the cell's
+    // row and column, 0 on them; the CRD's case with r = 1, tests/unit/test_crd.cpp), so Pearson's sum
+    // (O - E)^2 / E tends to t/(t-1) times a chi-square with (t-1)^2 degrees of freedom, and (t-1)/t times it
+    // is the chi-square itself. Critical value: Boost.Math chi_squared((t-1)^2) quantile 0.999. Fixed seed
+    // list 1..2000.
     const int t = 5, r = 4;
     const auto spec = make_spec(t, r, 0);
     std::vector<std::vector<double>> counts(t, std::vector<double>(t, 0.0));
@@ -289,9 +294,10 @@ TEST_CASE("Over many seeds each treatment falls in each position about equally o
     for (std::uint64_t seed = 1; seed <= 2000; ++seed, ++seeds)
         for (const auto& p : pw::design_rcbd(spec, seed).plots) counts[static_cast<std::size_t>(p.treatment)][static_cast<std::size_t>(p.position - 1)] += 1;
     const double expected = static_cast<double>(seeds) * r / t;
-    double x2 = 0;
+    double pearson = 0;
     for (const auto& row : counts)
-        for (double o : row) x2 += (o - expected) * (o - expected) / expected;
+        for (double o : row) pearson += (o - expected) * (o - expected) / expected;
+    const double x2 = pearson * (t - 1) / t;
     const double critical = boost::math::quantile(boost::math::chi_squared((t - 1) * (t - 1)), 0.999);
     CAPTURE(x2, critical);
     // R 4.2.2 qchisq(0.999, 16) = 39.25235, the printed-table value 39.252 (from memory).
