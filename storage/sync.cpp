@@ -258,6 +258,13 @@ PayloadSummary device_payload_summary(const Bundle& bundle, const std::string& s
     return sum;
 }
 
+// The id after the highest observation id: where received observations are numbered from.
+std::int64_t next_observation_id(sqlite3* db) {
+    Statement top(db, "SELECT coalesce(max(id), 0) + 1 FROM observation");
+    top.step();
+    return top.int64(0);
+}
+
 // ---- taking a handheld's rows in at the station ---------------------------------------------------------
 
 // Runs an INSERT of received rows into the station's tables; a row naming a plot or trait the trial does not
@@ -364,12 +371,7 @@ Received take_in_received(sqlite3* db, const std::string& payload, const std::st
     if (sum.corrections == sum.observations) return r;
     // The plain values, numbered first + ord (ord: the row's place in the payload's key order, so the numbers
     // follow origin_id, with a gap where a correction or a duplicate is left out); the links number them alike.
-    std::int64_t first = 1;
-    {
-        Statement top(db, "SELECT coalesce(max(id), 0) + 1 FROM observation");
-        top.step();
-        first = top.int64(0);
-    }
+    const std::int64_t first = next_observation_id(db);
     const std::string plain =
         " FROM pw_received_observation(?1) AS s WHERE s.supersedes IS NULL" + not_held + " ORDER BY s.origin_id";
     const auto values = statement("INSERT INTO observation (id, plot, trait, value, number, recorded_utc, device, "
@@ -442,12 +444,7 @@ Materialized materialize_observations(sqlite3* db, const std::string& origin) {
         ready.run();
         const auto n = static_cast<std::size_t>(sqlite3_changes(db));
         if (n == 0) break;
-        std::int64_t first = 1;
-        {
-            Statement top(db, "SELECT coalesce(max(id), 0) + 1 FROM observation");
-            top.step();
-            first = top.int64(0);
-        }
+        const std::int64_t first = next_observation_id(db);
         Statement ins(db,
                       "INSERT INTO observation (id, plot, trait, value, number, recorded_utc, device, observer, "
                       "supersedes, note) SELECT ?1 + seq - 1, plot, trait, value, number, recorded_utc, device, observer, "
