@@ -33,12 +33,9 @@ void add_export_command(CLI::App& app) {
     cmd->callback([o] {
         Store store = Store::open(o->db);
         TableExport t;
-        if (o->format == "geojson") {
-            t.text = export_plots_geojson(store);
-            t.unresolved = count_unresolved_conflicts(store);
-        } else if (o->format == "csv") {
-            t.text = export_observations_csv(store);
-            t.unresolved = unresolved_conflicts(store).size();
+        if (o->format == "geojson" || o->format == "csv") {
+            t.text = o->format == "geojson" ? export_plots_geojson(store) : export_observations_csv(store);
+            t.unresolved = count_unresolved_conflicts(store);  // the SQL view: no second read of every value
         } else {
             t = o->format == "csv-long" ? export_long_csv(store)
                 : o->format == "csv-wide" ? export_wide_csv(store)

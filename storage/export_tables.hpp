@@ -4,9 +4,10 @@
 //   csv-long  RFC 4180, one value per row: plot,block,treatment,trait,value,unit,recorded_utc,device,observer,
 //             observation,origin,origin_id
 //   csv-wide  RFC 4180, one plot per row in walking order: plot,block,row,col,treatment, the design's own
-//             columns, then one column per trait in spec order headed "name [unit]" ("name" without a unit);
-//             an empty cell is no value (or an unresolved conflict)
-//   json      RFC 8259: {"format":"plotwright-observations/1","trial":{...},"traits":[...],
+//             columns, then one column per trait in spec order headed "name [unit]" ("name" without a unit),
+//             then one per yield of the spec (computed, storage/trait_values.hpp); an empty cell is no value
+//             (or an unresolved conflict)
+//   json      RFC 8259: {"format":"plotwright-observations/1","trial":{...},"traits":[...],"yields":[...],
 //             "unresolved_conflicts":N,"conflicts":[{"plot","trait"}],"observations":[...]}
 // CSV fields are quoted only when they need it, records end in CRLF (storage/csv_table.hpp).
 #pragma once
