@@ -862,6 +862,15 @@ void read_yields(const Reader& r, const toml::table& root, TrialSpec& spec) {
     }
 }
 
+// The document as a TOML table; a syntax error is a SpecError at its line.
+toml::table parse_toml(const Reader& r, const std::string& toml_text, const std::string& source_name) {
+    try {
+        return toml::parse(toml_text, source_name);
+    } catch (const toml::parse_error& e) {
+        throw SpecError(r.where(e.source()), "", fmt::format("not valid TOML: {}", e.description()));
+    }
+}
+
 // True when `name` is in `text` as a whole word (not inside a longer run of letters and digits), ignoring
 // ASCII case.
 bool names_word(std::string_view text, std::string_view name) {
@@ -906,24 +915,19 @@ void refuse_treatment_names(const Reader& r, const toml::table& table, std::size
 std::vector<AddedTraitTable> parse_added_traits(const std::string& toml_text, const std::string& source_name,
                                                 const TrialSpec& trial) {
     const Reader r(source_name);
-    toml::table root;
-    try {
-        root = toml::parse(toml_text, source_name);
-    } catch (const toml::parse_error& e) {
-        throw SpecError(r.where(e.source()), "", fmt::format("not valid TOML: {}", e.description()));
-    }
+    const toml::table root = parse_toml(r, toml_text, source_name);
     // Only traits: the rest of the trial (treatments, layout, flags, yields) is fixed once it is designed.
     r.only_keys(Scope{root, ""}, {"traits"});
     std::vector<TraitSpec> traits;
     read_traits(r, root, traits);
     const toml::array& a = *root.get("traits")->as_array();
+    std::vector<std::string_view> names;
+    for (const TraitSpec& t : trial.traits) names.push_back(t.name);
     std::vector<AddedTraitTable> out;
     for (std::size_t i = 0; i < traits.size(); ++i) {
         const toml::table& table = *a.get(i)->as_table();
         const toml::node& name_node = *table.get("name");
         const std::string key = fmt::format("traits[{}].name", i + 1);
-        std::vector<std::string_view> names;
-        for (const TraitSpec& t : trial.traits) names.push_back(t.name);
         for (const TraitSpec& t : trial.traits)
             if (t.name == traits[i].name)
                 r.fail(name_node, key,
@@ -949,12 +953,7 @@ std::vector<AddedTraitTable> parse_added_traits(const std::string& toml_text, co
 
 TrialSpec parse_trial_spec(const std::string& toml_text, const std::string& source_name) {
     const Reader r(source_name);
-    toml::table root;
-    try {
-        root = toml::parse(toml_text, source_name);
-    } catch (const toml::parse_error& e) {
-        throw SpecError(r.where(e.source()), "", fmt::format("not valid TOML: {}", e.description()));
-    }
+    const toml::table root = parse_toml(r, toml_text, source_name);
     r.only_keys(Scope{root, ""}, {"trial", "field", "gradient", "second_gradient", "factors", "treatments", "traits",
                                   "flags", "yields"});
 
