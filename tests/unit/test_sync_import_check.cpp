@@ -35,6 +35,7 @@ namespace {
 
 using pw_test::TempDir;
 using pw_test::file_bytes;
+using pw_test::raw_rows;
 
 const char* const kSpec = R"toml([trial]
 code = "CHK26"
@@ -68,18 +69,6 @@ min = 0
 max = 20
 decimals = 2
 )toml";
-
-std::string integrity(const std::string& path) {
-    sqlite3* db = nullptr;
-    REQUIRE(sqlite3_open_v2(path.c_str(), &db, SQLITE_OPEN_READONLY, nullptr) == SQLITE_OK);
-    sqlite3_stmt* st = nullptr;
-    REQUIRE(sqlite3_prepare_v2(db, "PRAGMA integrity_check", -1, &st, nullptr) == SQLITE_OK);
-    std::string out;
-    if (sqlite3_step(st) == SQLITE_ROW) out = reinterpret_cast<const char*>(sqlite3_column_text(st, 0));
-    sqlite3_finalize(st);
-    sqlite3_close(db);
-    return out;
-}
 
 NewObservation value(int plot, const std::string& v, const std::string& device) {
     NewObservation o;
@@ -250,5 +239,5 @@ TEST_CASE("A handheld bundle holding another device's rows is refused at the sta
                                             "'hh-1' in a bundle of device 'hh-2'"));
     }
     CHECK(file_bytes(dir.file("station.db")) == before);
-    CHECK(integrity(dir.file("station.db")) == "ok");
+    CHECK(raw_rows(dir.file("station.db"), "PRAGMA integrity_check") == "ok\n");
 }
