@@ -128,6 +128,7 @@ std::vector<AddedTrait> add_traits(Store& store, const std::string& toml_text, c
     if (added_by.find_first_not_of(" \t") == std::string::npos)
         throw InputError("--observer: expected the name of who adds the trait, got an empty one");
     const std::vector<AddedTraitTable> tables = parse_added_traits(toml_text, source, store.trial().spec);
+    refuse_treatment_names_in_added_traits(toml_text, source, store.trial().spec);
 
     WriteTransaction tx(db);
     int next = 0;

@@ -939,7 +939,6 @@ std::vector<AddedTraitTable> parse_added_traits(const std::string& toml_text, co
                 r.fail(name_node, key,
                        fmt::format("'{}' is the name of a yield of trial {}; an added trait needs a name of its own",
                                    y.name, trial.code));
-        if (trial.blind) refuse_treatment_names(r, table, i, traits[i], trial);
         // The table on its own, written by toml++ from the parsed values (comments are not kept: on a blind
         // trial the text travels to the handhelds).
         toml::table doc;
@@ -949,6 +948,17 @@ std::vector<AddedTraitTable> parse_added_traits(const std::string& toml_text, co
         out.push_back({std::move(traits[i]), text.str() + "\n"});
     }
     return out;
+}
+
+void refuse_treatment_names_in_added_traits(const std::string& toml_text, const std::string& source_name,
+                                            const TrialSpec& trial) {
+    if (!trial.blind) return;
+    const std::vector<AddedTraitTable> tables = parse_added_traits(toml_text, source_name, trial);
+    const Reader r(source_name);
+    const toml::table root = parse_toml(r, toml_text, source_name);
+    const toml::array& a = *root.get("traits")->as_array();
+    for (std::size_t i = 0; i < tables.size(); ++i)
+        refuse_treatment_names(r, *a.get(i)->as_table(), i, tables[i].trait, trial);
 }
 
 TrialSpec parse_trial_spec(const std::string& toml_text, const std::string& source_name) {

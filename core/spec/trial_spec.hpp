@@ -158,6 +158,13 @@ struct AddedTraitTable {
 std::vector<AddedTraitTable> parse_added_traits(const std::string& toml_text, const std::string& source_name,
                                                 const TrialSpec& trial);
 
+// Adding traits to a blind trial: their texts (label, unit, score labels) reach the handhelds, so none may
+// name a treatment or a factor level of `trial` (a whole word, any case). Nothing when the trial is not
+// blind. A policy of adding, not of reading: definitions already stored are read without it. Throws
+// SpecError naming FILE:LINE and key.
+void refuse_treatment_names_in_added_traits(const std::string& toml_text, const std::string& source_name,
+                                            const TrialSpec& trial);
+
 // The accepted values of trial.design, in the order docs/spec.md lists them.
 const std::vector<std::string>& design_names();
 

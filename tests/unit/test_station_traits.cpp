@@ -374,6 +374,11 @@ TEST_CASE("A blind trial's handheld receives an added trait without the trait fi
                                  "labels = [\"paler\", \"like Local check\"]\n",
                                  "leak.toml", "M. Banda", "2026-06-12T08:00:00Z"),
                       Catch::Contains("traits[1].labels") && Catch::Contains("'Local check'"));
+    // A policy of adding only: a definition already stored is read without it (a station opens whatever
+    // an earlier program let through).
+    CHECK_NOTHROW(parse_added_traits("[[traits]]\nname = \"vigour\"\nlabel = \"vigour vs hybrid zeta\"\n"
+                                     "kind = \"count\"\nunit = \"plants\"\n",
+                                     "stored", station.trial().spec));
     CHECK(add_traits(station, "[[traits]]\nname = \"zetas\"\nlabel = \"Zetas per plot\"\nkind = \"count\"\nunit = \"plants\"\n",
                      "ok.toml", "M. Banda", "2026-06-12T08:00:00Z")
               .size() == 1);
