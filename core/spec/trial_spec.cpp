@@ -1,6 +1,6 @@
 // Reading a trial specification (docs/spec.md) from TOML text with toml++ into pw::TrialSpec.
 //
-// This is the only translation unit that includes toml++ (it is slow to compile). Every refusal is a
+// toml++ comes configured from tomlpp.hpp. Every refusal is a
 // SpecError whose `where` is "FILE:LINE" (the line of the offending key or value, or of the table header
 // when a key is missing; just "FILE" when toml++ knows no line), whose `key` is the dotted path with
 // 1-based indices into arrays ("traits[2].min" is `min` of the second [[traits]] table), and whose message
@@ -17,15 +17,9 @@
 #include <string_view>
 
 #include <fmt/format.h>
-// toml++ 3.3.0 asserts inside its parser on a table header opened with three brackets ("[[[x]]"), a case its
-// own error path then reports properly ("expected bare key starting character"); release builds (NDEBUG)
-// compile the assertion out. Found by tests/fuzz/fuzz_spec.cpp; the input is in its corpus. Its assertions
-// are compiled out in every build type, so that debug and sanitizer builds refuse such a spec as release
-// builds do instead of aborting.
-#define TOML_ASSERT(expr) static_cast<void>(0)
-#include <toml++/toml.h>
 
 #include "core/error.hpp"
+#include "core/spec/tomlpp.hpp"
 #include "core/traits/yield.hpp"
 
 namespace pw {

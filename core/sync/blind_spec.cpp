@@ -5,11 +5,8 @@
 
 #include <fmt/format.h>
 
-// Same toml++ configuration as the spec reader (core/spec/trial_spec.cpp): internal assertions compiled out.
-#define TOML_ASSERT(expr) static_cast<void>(0)
-#include <toml++/toml.h>
-
 #include "core/error.hpp"
+#include "core/spec/tomlpp.hpp"
 #include "core/spec/trial_spec.hpp"
 
 namespace pw {
