@@ -4,6 +4,7 @@
 #include "storage/changeset_rows.hpp"
 
 #include <algorithm>
+#include <cmath>
 #include <cstring>
 #include <limits>
 #include <vector>
@@ -128,6 +129,11 @@ bool ChangesetRecords::next() {
                                                                                   : varint();
         v.bytes = p_.substr(i_, static_cast<std::size_t>(n));
         i_ += static_cast<std::size_t>(n);
+        // A real whose bits are a NaN reads as NULL, as in SQLite's iterator (sessionReadRecord stores reals
+        // with sqlite3VdbeMemSetDouble, which keeps a NaN as NULL) and in any SQL value. SQLite never writes
+        // one; a forged payload could, and a reader seeing a real where SQL sees NULL would count a plain value
+        // as a correction (docs/fuzzing.md).
+        if (v.type == SQLITE_FLOAT && std::isnan(v.real())) v = Value{};
     }
     return true;
 }

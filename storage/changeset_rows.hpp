@@ -41,6 +41,7 @@ class ChangesetRecords {
 public:
     struct Value {
         int type = SQLITE_NULL;   // SQLITE_INTEGER, SQLITE_FLOAT, SQLITE_TEXT, SQLITE_BLOB or SQLITE_NULL
+                                  // (a NaN real is SQLITE_NULL, as SQLite's iterator reads it)
         std::string_view bytes;   // 8 bytes for an integer or a real; the text or blob itself
         std::int64_t integer() const;
         double real() const;

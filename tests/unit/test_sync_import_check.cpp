@@ -209,6 +209,43 @@ TEST_CASE("The station reads every row and value of a payload as SQLite's change
     CHECK(obs.at(6) == "3:hh-1|1:6|1:201|3:grain_kg|3:|5:|3:2026-06-01T09:00:00Z|3:hh-1|3:obs-hh-1|1:3|3:wrong plot|");
 }
 
+TEST_CASE("A real that is not a number reads as NULL at the station, as in SQLite's iterator, and no row is left out",
+          "[sync][import][payload]") {
+    // SQLite never writes a NaN into a changeset (a NaN bound to SQL is NULL), but a forged bundle can hold
+    // one. SQLite's iterator reads it as NULL; the station's reader once read a real there, counted the row
+    // as a correction, and left the plain value out of the import (found by tests/fuzz/fuzz_bundle.cpp).
+    TempDir dir;
+    Store station = station_with_handheld(dir);
+    Bundle b;
+    {
+        Store hh = Store::open(dir.file("hh1.db"));
+        hh.add_observation(value(101, "4.5", "hh-1"));
+        b = decode_bundle(export_of(hh), "hh1.bundle");
+    }
+    // The one row ends with its supersedes (type 5, NULL) and its note (type 3, length 0): the changeset
+    // format of sqlite3session.h. The supersedes becomes a real (type 2) with a NaN's 8 big-endian bytes.
+    const std::string tail("\x05\x03\x00", 3);
+    REQUIRE(b.payload.size() > tail.size());
+    REQUIRE(b.payload.compare(b.payload.size() - 3, 3, tail) == 0);
+    b.payload.replace(b.payload.size() - 3, 1, std::string("\x02\x7f\xf8\x00\x00\x00\x00\x00\x01", 9));
+    {
+        sqlite3_changeset_iter* it = nullptr;
+        REQUIRE(sqlite3changeset_start(&it, static_cast<int>(b.payload.size()), b.payload.data()) == SQLITE_OK);
+        REQUIRE(sqlite3changeset_next(it) == SQLITE_ROW);
+        sqlite3_value* v = nullptr;
+        REQUIRE(sqlite3changeset_new(it, 9, &v) == SQLITE_OK);
+        CHECK(sqlite3_value_type(v) == SQLITE_NULL);
+        CHECK(sqlite3changeset_next(it) == SQLITE_DONE);
+        REQUIRE(sqlite3changeset_finalize(it) == SQLITE_OK);
+    }
+    const std::string forged = encode_bundle(b.header, b.payload);
+    const ImportResult r = import_bundle(station, forged, "hh1.bundle", "2026-06-02T13:00:00Z");
+    CHECK(r.observations == 1);
+    CHECK(r.applied == 1);
+    CHECK(raw_rows(dir.file("station.db"), "SELECT plot, value, supersedes IS NULL FROM observation") ==
+          "101|4.5|1\n");
+}
+
 TEST_CASE("A handheld bundle holding another device's rows is refused at the station and changes nothing",
           "[sync][import][payload][refuse]") {
     TempDir dir;
