@@ -28,6 +28,9 @@
 #include <map>
 #include <memory>
 #include <set>
+#include <string_view>
+#include <tuple>
+#include <vector>
 
 #include <fmt/format.h>
 #include <nlohmann/json.hpp>
@@ -217,6 +220,29 @@ std::pair<std::size_t, std::size_t> apply_payload(sqlite3* db, const std::string
     return {ctx.duplicate_observations, ctx.duplicate_events};
 }
 
+// The keys (table, origin, origin_id) of a payload's rows. SQLite's session extension writes each key once; a
+// forged payload holding one twice would have the station take the second row in beside the first (a plain
+// value and a correction under one key: the correction never applied; found by tests/fuzz/fuzz_bundle.cpp),
+// so both payload checks refuse it.
+class PayloadKeys {
+public:
+    void add(bool observation, std::string_view origin, std::int64_t id) {
+        keys_.emplace_back(observation, std::string(origin), id);
+    }
+    // "" or the first key held twice, worded to follow "the payload ".
+    std::string repeated() {
+        std::sort(keys_.begin(), keys_.end());
+        const auto twice = std::adjacent_find(keys_.begin(), keys_.end());
+        if (twice == keys_.end()) return "";
+        const auto& [observation, origin, id] = *twice;
+        return fmt::format("holds two {} rows of origin '{}' with origin id {}",
+                           observation ? "sync_observation" : "sync_plot_event", origin, id);
+    }
+
+private:
+    std::vector<std::tuple<bool, std::string, std::int64_t>> keys_;
+};
+
 void count_observation(PayloadSummary& sum, std::int64_t origin_id, bool correction) {
     if (sum.observations == 0 || origin_id < sum.lowest_observation_id) sum.lowest_observation_id = origin_id;
     if (sum.observations == 0 || origin_id > sum.highest_observation_id) sum.highest_observation_id = origin_id;
@@ -237,6 +263,7 @@ PayloadSummary device_payload_summary(const Bundle& bundle, const std::string& s
     if (bundle.payload.empty()) return sum;
     if (const std::string why = changeset_framing_fault(bundle.payload); !why.empty()) refuse(why);
     ChangesetRecords records(bundle.payload);
+    PayloadKeys keys;
     while (records.next()) {
         const std::string_view table = records.table();
         const bool obs = table == "sync_observation";
@@ -254,7 +281,9 @@ PayloadSummary device_payload_summary(const Bundle& bundle, const std::string& s
             refuse(fmt::format("has a {} row whose origin id is not a whole number from 1 up", table));
         if (obs) count_observation(sum, id.integer(), records.value(9).type != SQLITE_NULL);  // 9: supersedes
         else ++sum.events;
+        keys.add(obs, origin.bytes, id.integer());
     }
+    if (const std::string why = keys.repeated(); !why.empty()) refuse(why);
     return sum;
 }
 
@@ -757,6 +786,7 @@ PayloadSummary check_bundle_payload(const Bundle& bundle, const std::string& sou
         ~Finalize() { sqlite3changeset_finalize(it); }
     } finalize{it};
     const bool from_device = bundle.header.kind == BundleKind::FromDevice;
+    PayloadKeys keys;
     int rc = SQLITE_OK;
     while ((rc = sqlite3changeset_next(it)) == SQLITE_ROW) {
         const char* table = nullptr;
@@ -816,8 +846,10 @@ PayloadSummary check_bundle_payload(const Bundle& bundle, const std::string& sou
         } else {
             ++sum.events;
         }
+        keys.add(obs, o, sqlite3_value_int64(id));
     }
     if (rc != SQLITE_DONE) refuse("is damaged (SQLite could not read the changeset)");
+    if (const std::string why = keys.repeated(); !why.empty()) refuse(why);
     return sum;
 }
 

@@ -246,6 +246,41 @@ TEST_CASE("A real that is not a number reads as NULL at the station, as in SQLit
           "101|4.5|1\n");
 }
 
+TEST_CASE("A payload holding one origin key twice is refused by both checks and changes nothing",
+          "[sync][import][payload][refuse]") {
+    // SQLite's session extension records one change per primary key (sessionintro.html), so a changeset it
+    // wrote never holds a key twice; a forged one can. The station once took in a plain value and a correction
+    // under one key, and the correction was never applied (found by tests/fuzz/fuzz_bundle.cpp).
+    TempDir dir;
+    Bundle b;
+    {
+        Store station = station_with_handheld(dir);
+        Store hh = Store::open(dir.file("hh1.db"));
+        hh.add_observation(value(101, "4.5", "hh-1"));   // origin id 1
+        hh.add_observation(value(102, "4.6", "hh-1"));   // 2
+        NewObservation fix = value(101, "5.40", "hh-1");  // 3, correcting 1
+        fix.supersedes = 1;
+        fix.note = "re-weighed";
+        hh.add_observation(fix);
+        b = decode_bundle(export_of(hh), "hh1.bundle");
+    }
+    // Each row starts with its origin (type 3, length 4, "hh-1") and origin id (type 1, 8 big-endian bytes):
+    // the changeset format of sqlite3session.h. The correction's id 3 becomes 2, the plain value's.
+    const std::string third("\x03\x04hh-1\x01\x00\x00\x00\x00\x00\x00\x00\x03", 15);
+    const std::size_t at = b.payload.find(third);
+    REQUIRE(at != std::string::npos);
+    b.payload[at + 14] = '\x02';
+    const std::string message = "the payload holds two sync_observation rows of origin 'hh-1' with origin id 2";
+    CHECK_THROWS_WITH(check_bundle_payload(b, "hh1.bundle"), Catch::Contains(message));
+    const std::string before = file_bytes(dir.file("station.db"));
+    {
+        Store station = Store::open(dir.file("station.db"));
+        CHECK_THROWS_WITH(import_bundle(station, encode_bundle(b.header, b.payload), "hh1.bundle", "2026-06-02T13:00:00Z"),
+                          Catch::StartsWith("hh1.bundle: refused, nothing imported: " + message));
+    }
+    CHECK(file_bytes(dir.file("station.db")) == before);
+}
+
 TEST_CASE("A handheld bundle holding another device's rows is refused at the station and changes nothing",
           "[sync][import][payload][refuse]") {
     TempDir dir;
