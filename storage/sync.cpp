@@ -227,20 +227,23 @@ std::pair<std::size_t, std::size_t> apply_payload(sqlite3* db, const std::string
 class PayloadKeys {
 public:
     void add(bool observation, std::string_view origin, std::int64_t id) {
-        keys_.emplace_back(observation, std::string(origin), id);
+        auto named = origins_.find(origin);
+        if (named == origins_.end()) named = origins_.emplace(origin).first;
+        keys_.emplace_back(id, observation, *named);
     }
     // "" or the first key held twice, worded to follow "the payload ".
     std::string repeated() {
-        std::sort(keys_.begin(), keys_.end());
+        std::sort(keys_.begin(), keys_.end());   // by id first: nearly every comparison ends there
         const auto twice = std::adjacent_find(keys_.begin(), keys_.end());
         if (twice == keys_.end()) return "";
-        const auto& [observation, origin, id] = *twice;
+        const auto& [id, observation, origin] = *twice;
         return fmt::format("holds two {} rows of origin '{}' with origin id {}",
                            observation ? "sync_observation" : "sync_plot_event", origin, id);
     }
 
 private:
-    std::vector<std::tuple<bool, std::string, std::int64_t>> keys_;
+    std::set<std::string, std::less<>> origins_;   // each origin once; the keys point into it
+    std::vector<std::tuple<std::int64_t, bool, std::string_view>> keys_;
 };
 
 void count_observation(PayloadSummary& sum, std::int64_t origin_id, bool correction) {
