@@ -3,9 +3,9 @@
 // toml++ comes configured from tomlpp.hpp. Every refusal is a SpecError whose `where` is "FILE:LINE" (the
 // line of the offending key or value, or of the table header when a key is missing; just "FILE" when toml++
 // knows no line), whose `key` is the dotted path with 1-based indices into arrays ("traits[2].min" is `min`
-// of the second [[traits]] table), and whose message says what was expected. Unknown keys are refused so a misspelt key is never silently ignored.
-// Checks that only make sense for a particular design (at least two blocks, two treatments) belong to the
-// design (core/design/); this file checks what the format itself promises.
+// of the second [[traits]] table), and whose message says what was expected. Unknown keys are refused so a
+// misspelt key is never silently ignored. Checks that only make sense for a particular design (at least two
+// blocks, two treatments) belong to the design (core/design/); this file checks what the format promises.
 #include "core/spec/trial_spec.hpp"
 
 #include <algorithm>
