@@ -35,6 +35,7 @@
 #include "storage/changeset_rows.hpp"
 #include "storage/store.hpp"
 #include "storage/sync.hpp"
+#include "tests/unit/temp_dir.hpp"
 
 namespace {
 
@@ -45,17 +46,14 @@ std::string file_bytes(const fs::path& path) {
     return {std::istreambuf_iterator<char>(in), std::istreambuf_iterator<char>()};
 }
 
-// A fresh directory on tmpfs when there is one (each accepted import commits with an fsync).
-fs::path temp_dir() {
-    const fs::path base = fs::is_directory("/dev/shm") ? fs::path("/dev/shm") : fs::temp_directory_path();
-    std::string name = (base / "pw-fuzz-station-XXXXXX").string();
-    if (!mkdtemp(name.data())) std::abort();
-    return name;
+// Where path 4's stations go: tmpfs when there is one (each accepted import commits with an fsync).
+fs::path station_base() {
+    return fs::is_directory("/dev/shm") ? fs::path("/dev/shm") : fs::temp_directory_path();
 }
 
 // Path 4's station, made once: the demo trial (layouts/demo.toml, the trial of the seed bundles) with handhelds
 // hh-1 to hh-9 provisioned. `pristine` is the station file's bytes, written to a directory of its own for each
-// input and removed after it (libFuzzer ends the process without running atexit handlers).
+// input (pw_test::TempDir, removed after the input: libFuzzer ends without running atexit handlers).
 struct Station {
     std::string pristine, digest;
 };
@@ -63,20 +61,19 @@ struct Station {
 const Station& station() {
     static const Station s = [] {
         Station st;
-        const fs::path dir = temp_dir();
+        const pw_test::TempDir dir(station_base());
         const std::string text = file_bytes(PW_DEMO_SPEC);
         const pw::TrialSpec spec = pw::parse_trial_spec(text, "demo.toml");
         {
-            pw::Store store = pw::Store::create((dir / "station.db").string(), text, "demo.toml", spec,
+            pw::Store store = pw::Store::create(dir.file("station.db"), text, "demo.toml", spec,
                                                 pw::design_trial(spec, spec.seed.value_or(1)), "2026-06-01T07:00:00Z");
             for (int k = 1; k <= 9; ++k) {
                 const std::string device = "hh-" + std::to_string(k);
-                pw::provision_device(store, device, (dir / (device + ".db")).string(), "2026-06-01T08:00:00Z");
+                pw::provision_device(store, device, dir.file(device + ".db"), "2026-06-01T08:00:00Z");
             }
             st.digest = pw::trial_digest(store);
         }
-        st.pristine = file_bytes(dir / "station.db");
-        fs::remove_all(dir);
+        st.pristine = file_bytes(dir.file("station.db"));
         return st;
     }();
     return s;
@@ -124,15 +121,15 @@ void import_at_station(const std::string& payload, const IteratorRows& rows) {
     } catch (const pw::Error&) {
         return;   // a device name the header cannot carry: no bundle to import
     }
-    const fs::path dir = temp_dir();
-    const fs::path file = dir / "station.db";
+    const pw_test::TempDir dir(station_base());
+    const std::string file = dir.file("station.db");
     {
         std::ofstream out(file, std::ios::binary);
         out.write(s.pristine.data(), static_cast<std::streamsize>(s.pristine.size()));
     }
     bool taken = false;
     {
-        pw::Store store = pw::Store::open(file.string());
+        pw::Store store = pw::Store::open(file);
         try {
             pw::import_bundle(store, bundle, "fuzz.bundle", "2026-06-14T12:00:00Z");
             taken = true;
@@ -175,7 +172,6 @@ void import_at_station(const std::string& payload, const IteratorRows& rows) {
         }
     }
     if (!taken && file_bytes(file) != s.pristine) std::abort();
-    fs::remove_all(dir);
 }
 
 // Path 3, then path 4. Aborts (a finding) when the station's reader and SQLite's disagree on a framed payload.

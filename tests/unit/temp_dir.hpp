@@ -1,5 +1,5 @@
-// A temporary folder for one test case (mkdtemp under the system's temporary directory), removed with
-// everything in it when the test case ends, whether it passed or not.
+// A temporary folder for one test case (mkdtemp under the system's temporary directory, or under `base`),
+// removed with everything in it when the test case ends, whether it passed or not.
 #pragma once
 #include <stdlib.h>
 
@@ -12,8 +12,8 @@ namespace pw_test {
 
 struct TempDir {
     std::filesystem::path path;
-    TempDir() {
-        std::string tmpl = (std::filesystem::temp_directory_path() / "pw-test-XXXXXX").string();
+    explicit TempDir(const std::filesystem::path& base = std::filesystem::temp_directory_path()) {
+        std::string tmpl = (base / "pw-test-XXXXXX").string();
         if (!mkdtemp(tmpl.data())) throw std::runtime_error("mkdtemp failed");
         path = tmpl;
     }
